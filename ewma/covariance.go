@@ -1,0 +1,107 @@
+package ewma
+
+import (
+	"gonum.org/v1/gonum/mat"
+)
+
+// CovarianceTo sets dst to the weighted covariance of the columns of the T×N
+// matrix x (rows are dates, NaN is missing) and returns diagnostics:
+//
+//	Σ_ij = Σ_t w_t m_ti m_tj (x_ti − μ_i)(x_tj − μ_j) / Σ_t w_t m_ti m_tj
+//
+// where m_ti is 1 if x_ti is present. μ = 0 by default (zero mean); with
+// opts.Demean, μ_i and μ_j are the weighted means over the dates the pair
+// shares. The divisor is the pair's total weight, so the weights are
+// renormalised over the dates used and need not sum to 1; opts.Unbiased
+// multiplies by (Σw)²/((Σw)² − Σw²) over those dates (pandas' bias=False).
+// A nil w means equal weights.
+//
+// Missing data are handled pairwise unless opts.CompleteCase is set. When a
+// value is missing the pairwise matrix is checked for positive
+// semidefiniteness (a Cholesky factorization, then an eigendecomposition if
+// that fails) and repaired if needed; Report.Repair says how.
+//
+// CovarianceTo panics with mat.ErrShape if len(w) ≠ T or dst is neither
+// empty nor N×N; a nil dst panics as gonum's fill methods do, so pass
+// &mat.SymDense{} to allocate. It returns an error wrapping ErrWeight,
+// ErrNonFinite (an Inf in x), ErrAllMissing, ErrTooFew (a column or pair with
+// fewer than 2 common observations) or ErrEffectiveObs (a pair below
+// opts.MinEffectiveObs). Cost: one to four O(T·N²) products on all cores
+// through internal/dense, plus O(N³) for the check when data are missing.
+//
+// References: pandas 1.5.3, DataFrame.ewm(halflife=h, adjust=True).cov();
+// Higham, N. J. (1988), "Computing a nearest symmetric positive semidefinite
+// matrix", Linear Algebra Appl. 103:103–118 (eigenvalue clipping).
+func CovarianceTo(dst *mat.SymDense, x mat.Matrix, w []float64, opts *Options) (*Report, error) {
+	if dst == nil {
+		panic(mat.ErrShape)
+	}
+	_, n := x.Dims()
+	dst = prepareSym(dst, n)
+	o := opts.orZero()
+	d, err := load(x, w, o)
+	if err != nil {
+		return nil, err
+	}
+	m := d.products(o.Demean)
+	rep := &Report{}
+	if err := finishCov(dst, m, o, o.Unbiased, rep); err != nil {
+		return rep, err
+	}
+	if m.wt != nil {
+		rep.Checked = true
+		rep.Repair = makePSD(dst)
+	}
+	return rep, nil
+}
+
+// CorrelationTo sets dst to the weighted correlation of the columns of x and
+// returns diagnostics:
+//
+//	C_ij = Σ_ij / √(Σ_ii Σ_jj)
+//
+// with Σ the biased covariance of CovarianceTo (opts.Unbiased is ignored: it
+// would cancel without missing data). With pairwise data Σ_ij uses the dates
+// both assets share and Σ_ii each asset's own dates: pandas' convention for
+// ewm(...).corr(). A pairwise correlation can therefore exceed 1 in magnitude
+// or fail to be positive semidefinite; it is then repaired as in
+// CovarianceTo, which keeps the unit diagonal, and the repair is reported.
+//
+// Panics and errors as for CovarianceTo, plus ErrZeroVariance for a column of
+// zero variance. Cost as for CovarianceTo.
+//
+// References: pandas 1.5.3, DataFrame.ewm(halflife=h, adjust=True).corr();
+// Higham, N. J. (1988), "Computing a nearest symmetric positive semidefinite
+// matrix", Linear Algebra Appl. 103:103–118.
+func CorrelationTo(dst *mat.SymDense, x mat.Matrix, w []float64, opts *Options) (*Report, error) {
+	if dst == nil {
+		panic(mat.ErrShape)
+	}
+	_, n := x.Dims()
+	dst = prepareSym(dst, n)
+	o := opts.orZero()
+	d, err := load(x, w, o)
+	if err != nil {
+		return nil, err
+	}
+	m := d.products(o.Demean)
+	rep := &Report{}
+	if err := finishCorr(dst, m, o, rep); err != nil {
+		return rep, err
+	}
+	return rep, nil
+}
+
+func finishCorr(dst *mat.SymDense, m *sums, o Options, rep *Report) error {
+	if err := finishCov(dst, m, o, false, rep); err != nil {
+		return err
+	}
+	if err := normalise(dst); err != nil {
+		return err
+	}
+	if m.wt != nil {
+		rep.Checked = true
+		rep.Repair = makePSD(dst)
+	}
+	return nil
+}

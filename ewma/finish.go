@@ -1,0 +1,144 @@
+package ewma
+
+import (
+	"math"
+
+	"gonum.org/v1/gonum/mat"
+)
+
+// finishCov writes the covariance of m into dst (upper triangle, then
+// symmetric) and fills the observation fields of rep. It does not check
+// positive semidefiniteness. unbiased applies the Σw² correction.
+func finishCov(dst *mat.SymDense, m *sums, o Options, unbiased bool, rep *Report) error {
+	n := m.n
+	raw := dst.RawSymmetric()
+	rep.Rows, rep.Used, rep.EffectiveObs, rep.Missing = m.rows, m.used, m.eff, m.missing
+	rep.MinPairEffectiveObs = math.Inf(1)
+	for i := 0; i < n; i++ {
+		for j := i; j < n; j++ {
+			k := i*n + j
+			wt, w2, cnt := m.pair(k)
+			if cnt < 2 {
+				return errAt(ErrTooFew, -1, i, j, cnt)
+			}
+			eff := wt * wt / w2
+			if eff < rep.MinPairEffectiveObs {
+				rep.MinPairEffectiveObs, rep.MinPair = eff, [2]int{i, j}
+			}
+			c := m.s[k] / wt
+			if m.p != nil {
+				c -= (m.p[k] / wt) * (m.p[j*n+i] / wt)
+			}
+			if unbiased {
+				c *= wt * wt / (wt*wt - w2)
+			}
+			raw.Data[i*raw.Stride+j] = c
+		}
+	}
+	if o.MinEffectiveObs > 0 && rep.MinPairEffectiveObs < o.MinEffectiveObs {
+		p := rep.MinPair
+		return errAt(ErrEffectiveObs, -1, p[0], p[1], rep.MinPairEffectiveObs)
+	}
+	return nil
+}
+
+// normalise turns the covariance in dst into a correlation in place, using
+// its own diagonal: with pairwise data, the covariance of a pair divided by
+// the square roots of each column's variance over its own observations.
+func normalise(dst *mat.SymDense) error {
+	n := dst.SymmetricDim()
+	raw := dst.RawSymmetric()
+	sd := make([]float64, n)
+	for i := range sd {
+		v := raw.Data[i*raw.Stride+i]
+		if !(v > 0) {
+			return errAt(ErrZeroVariance, -1, i, -1, v)
+		}
+		sd[i] = math.Sqrt(v)
+	}
+	for i := 0; i < n; i++ {
+		row := raw.Data[i*raw.Stride : i*raw.Stride+n]
+		for j := i + 1; j < n; j++ {
+			row[j] /= sd[i] * sd[j]
+		}
+		row[i] = 1
+	}
+	return nil
+}
+
+// makePSD checks that the symmetric a is positive semidefinite and, if not,
+// sets its negative eigenvalues to zero and rescales to the original
+// diagonal: a ← D^½ Â D^½ with Â = V max(Λ, 0) Vᵀ and D = diag(a)/diag(Â).
+// Eigenvalues down to −tol·max|λ| count as zero (rounding), tol = n·ε.
+// It returns nil if no repair was needed. Cost O(n³).
+func makePSD(a *mat.SymDense) *Repair {
+	n := a.SymmetricDim()
+	var ch mat.Cholesky
+	if ch.Factorize(a) {
+		return nil
+	}
+	var es mat.EigenSym
+	if !es.Factorize(a, true) {
+		// Not reached for finite input; leave the matrix and say so.
+		return &Repair{MinEigenvalue: math.NaN()}
+	}
+	vals := es.Values(nil)
+	top := math.Max(math.Abs(vals[0]), math.Abs(vals[n-1]))
+	tol := float64(n) * 0x1p-52 * top
+	if vals[0] >= -tol {
+		return nil
+	}
+	rep := &Repair{MinEigenvalue: vals[0]}
+	var v mat.Dense
+	es.VectorsTo(&v)
+	for j, l := range vals {
+		if l < 0 {
+			rep.Clipped++
+			l = 0
+		}
+		s := math.Sqrt(l)
+		for i := 0; i < n; i++ {
+			v.Set(i, j, v.At(i, j)*s)
+		}
+	}
+	b := mat.NewSymDense(n, nil)
+	b.SymOuterK(1, &v)
+	scale := make([]float64, n)
+	for i := range scale {
+		scale[i] = 1
+		if d := b.At(i, i); d > 0 {
+			scale[i] = math.Sqrt(a.At(i, i) / d)
+		}
+	}
+	for i := 0; i < n; i++ {
+		for j := i; j < n; j++ {
+			nv := b.At(i, j) * scale[i] * scale[j]
+			rep.MaxChange = math.Max(rep.MaxChange, math.Abs(nv-a.At(i, j)))
+			a.SetSym(i, j, nv)
+		}
+	}
+	return rep
+}
+
+// prepareSym sizes dst as an n×n symmetric matrix, allocating when nil or
+// empty and panicking with mat.ErrShape on a wrong size.
+func prepareSym(dst *mat.SymDense, n int) *mat.SymDense {
+	switch {
+	case dst == nil:
+		return mat.NewSymDense(n, nil)
+	case dst.IsEmpty():
+		dst.ReuseAsSym(n)
+	case dst.SymmetricDim() != n:
+		panic(mat.ErrShape)
+	}
+	return dst
+}
+
+// mirror copies the computed upper triangle of a raw n×n row-major buffer
+// into dst; dst's own storage is upper-triangular so nothing else is needed.
+func copyUpper(dst *mat.SymDense, src []float64, n int) {
+	raw := dst.RawSymmetric()
+	for i := 0; i < n; i++ {
+		copy(raw.Data[i*raw.Stride+i:i*raw.Stride+n], src[i*n+i:(i+1)*n])
+	}
+}
