@@ -1,0 +1,318 @@
+package te
+
+import (
+	"math"
+
+	"gonum.org/v1/gonum/blas"
+	"gonum.org/v1/gonum/blas/blas64"
+	"gonum.org/v1/gonum/mat"
+)
+
+// Covariance is the least te needs: any symmetric covariance (a *mat.SymDense
+// is one).
+type Covariance interface{ mat.Symmetric }
+
+// Factored is a covariance in factor form Σ = B·F·Bᵀ + D; te uses it for the
+// factor/specific split and to compute Σa in O(N·K). A factor model
+// satisfies it.
+type Factored interface {
+	Covariance
+	NumFactors() int
+	LoadingsTo(dst *mat.Dense) *mat.Dense
+	FactorCovarianceTo(dst *mat.SymDense) *mat.SymDense
+	SpecificVariancesTo(dst []float64) []float64
+}
+
+// Analyzer holds a covariance in the form te computes with, built once per
+// model and reused for many portfolios. It is read-only after NewAnalyzer and
+// safe for concurrent use.
+type Analyzer struct {
+	n, k     int
+	factored bool
+
+	// Factor form: B (N×K row-major), F (K×K, both triangles), D.
+	b blas64.General
+	f blas64.General
+	d []float64
+
+	// Dense form.
+	sym blas64.Symmetric
+
+	diag []float64 // Σ_ii, for volatilities and hedges
+}
+
+// NewAnalyzer prepares cov for tracking-error analysis.
+//
+// If cov implements Factored, its loadings B, factor covariance F and
+// specific variances D are copied once, and every product is computed in
+// factor form:
+//
+//	Σa = B·(F·(Bᵀa)) + D·a      O(N·K + K²)
+//
+// Otherwise cov is dense: a *mat.SymDense (or any mat.RawSymmetricer) is used
+// in place through its raw storage, without a copy, so it must not be changed
+// while the Analyzer is in use; any other mat.Symmetric is copied once through
+// At into a dense matrix (O(N²) memory). Σa is then the dense symmetric
+// product (BLAS Dsymv), O(N²), and no factor split is available: see
+// Decomposition.Factored.
+//
+// NewAnalyzer returns an *InputError wrapping ErrNonFinite for a non-finite
+// element of B, F, D or a dense Σ, or ErrNegative for a negative specific or
+// factor variance or diagonal element. It returns ErrEmpty for a model with
+// no assets. It panics with mat.ErrShape if B, F and D have inconsistent
+// dimensions. Cost: O(N·K²) for a factor form (the diagonal of Σ), O(N²) to
+// validate a dense Σ.
+func NewAnalyzer(cov Covariance) (*Analyzer, error) {
+	n := cov.SymmetricDim()
+	if n == 0 {
+		return nil, ErrEmpty
+	}
+	if fm, ok := cov.(Factored); ok {
+		return newFactored(fm, n)
+	}
+	return newDense(cov, n)
+}
+
+func newFactored(fm Factored, n int) (*Analyzer, error) {
+	k := fm.NumFactors()
+	bm := fm.LoadingsTo(nil)
+	if r, c := bm.Dims(); r != n || c != k {
+		panic(mat.ErrShape)
+	}
+	fs := fm.FactorCovarianceTo(nil)
+	if fs.SymmetricDim() != k {
+		panic(mat.ErrShape)
+	}
+	d := fm.SpecificVariancesTo(nil)
+	if len(d) != n {
+		panic(mat.ErrShape)
+	}
+	a := &Analyzer{n: n, k: k, factored: true,
+		b: blas64.General{Rows: n, Cols: k, Stride: k, Data: make([]float64, n*k)},
+		f: blas64.General{Rows: k, Cols: k, Stride: k, Data: make([]float64, k*k)},
+		d: append([]float64(nil), d...),
+	}
+	for i := 0; i < n; i++ {
+		row := a.b.Data[i*k : (i+1)*k]
+		for j := range row {
+			v := bm.At(i, j)
+			if !finite(v) {
+				return nil, &InputError{Field: "loadings", Index: i, Column: j, Value: v, Err: ErrNonFinite}
+			}
+			row[j] = v
+		}
+	}
+	for i := 0; i < k; i++ {
+		for j := 0; j < k; j++ {
+			v := fs.At(i, j)
+			if !finite(v) {
+				return nil, &InputError{Field: "factor covariance", Index: i, Column: j, Value: v, Err: ErrNonFinite}
+			}
+			if i == j && v < 0 {
+				return nil, &InputError{Field: "factor covariance", Index: i, Column: j, Value: v, Err: ErrNegative}
+			}
+			a.f.Data[i*k+j] = v
+		}
+	}
+	for i, v := range a.d {
+		if err := checkVar("specific variances", i, v); err != nil {
+			return nil, err
+		}
+	}
+	// Σ_ii = b_iᵀ F b_i + d_i.
+	a.diag = make([]float64, n)
+	fb := make([]float64, k)
+	for i := range a.diag {
+		row := a.b.Data[i*k : (i+1)*k]
+		gemv(blas.NoTrans, a.f, row, fb)
+		a.diag[i] = max(0, dot(row, fb)) + a.d[i]
+	}
+	return a, nil
+}
+
+func newDense(cov Covariance, n int) (*Analyzer, error) {
+	a := &Analyzer{n: n}
+	if rs, ok := cov.(mat.RawSymmetricer); ok {
+		a.sym = rs.RawSymmetric()
+	} else {
+		s := mat.NewSymDense(n, nil)
+		s.CopySym(cov)
+		a.sym = s.RawSymmetric()
+	}
+	a.diag = make([]float64, n)
+	for i := 0; i < n; i++ {
+		for j := i; j < n; j++ {
+			v := a.symAt(i, j)
+			if !finite(v) {
+				return nil, &InputError{Field: "covariance", Index: i, Column: j, Value: v, Err: ErrNonFinite}
+			}
+		}
+		v := a.symAt(i, i)
+		if v < 0 {
+			return nil, &InputError{Field: "covariance", Index: i, Column: i, Value: v, Err: ErrNegative}
+		}
+		a.diag[i] = v
+	}
+	return a, nil
+}
+
+// symAt reads element (i, j) of the dense Σ from whichever triangle holds it.
+func (a *Analyzer) symAt(i, j int) float64 {
+	if (a.sym.Uplo == blas.Upper) != (i <= j) {
+		i, j = j, i
+	}
+	return a.sym.Data[i*a.sym.Stride+j]
+}
+
+// Len returns the number of assets N.
+func (a *Analyzer) Len() int { return a.n }
+
+// NumFactors returns the number of factors K, 0 for a dense covariance.
+func (a *Analyzer) NumFactors() int { return a.k }
+
+// Factored reports whether the analyzer holds a factor form (and so gives the
+// factor/specific split).
+func (a *Analyzer) Factored() bool { return a.factored }
+
+// MulVecTo sets dst to Σx and returns it; a nil dst is allocated. For an
+// optimizer the gradient of the tracking error is Σa / TE. It panics with
+// mat.ErrShape if x or a non-nil dst does not have length N. x is not
+// checked for finiteness. Cost O(N·K) in factor form, O(N²) dense.
+func (a *Analyzer) MulVecTo(dst, x []float64) []float64 {
+	if len(x) != a.n {
+		panic(mat.ErrShape)
+	}
+	dst = vecDst(dst, a.n)
+	if a.factored {
+		bx := make([]float64, 2*a.k)
+		a.factorMul(dst, x, bx[:a.k], bx[a.k:])
+		return dst
+	}
+	blas64.Symv(1, a.sym, vec(x), 0, vec(dst))
+	return dst
+}
+
+// factorMul sets dst = Σx, bx = Bᵀx and fbx = F·Bᵀx.
+func (a *Analyzer) factorMul(dst, x, bx, fbx []float64) {
+	gemv(blas.Trans, a.b, x, bx)
+	gemv(blas.NoTrans, a.f, bx, fbx)
+	gemv(blas.NoTrans, a.b, fbx, dst)
+	for i, v := range x {
+		dst[i] += a.d[i] * v
+	}
+}
+
+// TrackingError returns the ex-ante tracking error per period,
+//
+//	TE = √(aᵀΣa),   a = portfolio − benchmark,
+//
+// without the decomposition: the call an optimizer makes in a loop. Errors
+// and panics are those of DecomposeTo. Cost O(N·K) in factor form, O(N²)
+// dense.
+func (a *Analyzer) TrackingError(portfolio, benchmark []float64) (float64, error) {
+	if err := a.checkWeights(portfolio, benchmark); err != nil {
+		return 0, err
+	}
+	act := make([]float64, a.n)
+	for i := range act {
+		act[i] = portfolio[i] - benchmark[i]
+	}
+	var te2 float64
+	if a.factored {
+		x := make([]float64, 2*a.k)
+		gemv(blas.Trans, a.b, act, x[:a.k])
+		gemv(blas.NoTrans, a.f, x[:a.k], x[a.k:])
+		te2 = dot(x[:a.k], x[a.k:])
+		for i, v := range act {
+			te2 += a.d[i] * v * v
+		}
+	} else {
+		sa := make([]float64, a.n)
+		blas64.Symv(1, a.sym, vec(act), 0, vec(sa))
+		te2 = dot(act, sa)
+	}
+	te2, err := clampVariance(te2, act, a.diag)
+	return math.Sqrt(te2), err
+}
+
+// checkWeights panics on a length mismatch and reports non-finite weights and
+// an empty portfolio.
+func (a *Analyzer) checkWeights(portfolio, benchmark []float64) error {
+	if len(portfolio) != a.n || len(benchmark) != a.n {
+		panic(mat.ErrShape)
+	}
+	held := false
+	for i, v := range portfolio {
+		if !finite(v) {
+			return &InputError{Field: "portfolio", Index: i, Column: -1, Value: v, Err: ErrNonFinite}
+		}
+		held = held || v != 0
+	}
+	for i, v := range benchmark {
+		if !finite(v) {
+			return &InputError{Field: "benchmark", Index: i, Column: -1, Value: v, Err: ErrNonFinite}
+		}
+	}
+	if !held {
+		return ErrEmpty
+	}
+	return nil
+}
+
+// clampVariance turns a quadratic form that rounding pushed slightly below
+// zero into zero, and reports one that is clearly negative: Σ is then not
+// positive semidefinite. The scale of rounding error is Σ|x_i|·√Σ_ii squared.
+func clampVariance(v float64, x, diag []float64) (float64, error) {
+	if v >= 0 {
+		return v, nil
+	}
+	var s float64
+	for i, xi := range x {
+		s += math.Abs(xi) * math.Sqrt(diag[i])
+	}
+	if -v <= 1e-12*s*s {
+		return 0, nil
+	}
+	return 0, &InputError{Field: "active variance", Index: -1, Column: -1, Value: v, Err: ErrNotPSD}
+}
+
+func checkVar(field string, i int, v float64) error {
+	if !finite(v) {
+		return &InputError{Field: field, Index: i, Column: -1, Value: v, Err: ErrNonFinite}
+	}
+	if v < 0 {
+		return &InputError{Field: field, Index: i, Column: -1, Value: v, Err: ErrNegative}
+	}
+	return nil
+}
+
+func finite(v float64) bool { return !math.IsNaN(v) && !math.IsInf(v, 0) }
+
+func vec(x []float64) blas64.Vector { return blas64.Vector{N: len(x), Inc: 1, Data: x} }
+
+// gemv sets y = op(A)·x.
+func gemv(t blas.Transpose, m blas64.General, x, y []float64) {
+	if m.Rows == 0 || m.Cols == 0 {
+		clear(y)
+		return
+	}
+	blas64.Gemv(t, 1, m, vec(x), 0, vec(y))
+}
+
+func dot(x, y []float64) float64 {
+	var s float64
+	for i, v := range x {
+		s += v * y[i]
+	}
+	return s
+}
+
+func vecDst(dst []float64, n int) []float64 {
+	if dst == nil {
+		return make([]float64, n)
+	}
+	if len(dst) != n {
+		panic(mat.ErrShape)
+	}
+	return dst
+}

@@ -1,0 +1,275 @@
+package te
+
+import (
+	"math"
+
+	"gonum.org/v1/gonum/blas"
+	"gonum.org/v1/gonum/blas/blas64"
+)
+
+// Decomposition is the ex-ante tracking error of one portfolio against one
+// benchmark, and its Euler allocation. All figures are per period; see
+// Annualized. Slices indexed by asset have length N, in the model's order;
+// Factors has length K.
+//
+// When the tracking error is zero (the portfolio equals the benchmark) every
+// contribution, marginal contribution, percent and correlation is 0, not
+// NaN.
+type Decomposition struct {
+	// TE is √(aᵀΣa) with a = portfolio − benchmark.
+	TE float64
+	// FactorVariance and SpecificVariance split TE² = xᵀFx + aᵀDa, x = Bᵀa.
+	// For a dense covariance they are 0 and Factored is false.
+	FactorVariance, SpecificVariance float64
+	// Factored reports whether the factor/specific split, FactorPart,
+	// SpecificPart, Factors and Specific are available. When false they are
+	// zero or nil: a dense Σ carries no split, and te does not invent one.
+	Factored bool
+
+	// PortfolioRisk √(pᵀΣp) and BenchmarkRisk √(bᵀΣb) are total risks.
+	PortfolioRisk, BenchmarkRisk float64
+	// Beta is the portfolio's beta to the benchmark, pᵀΣb / bᵀΣb; 0 when the
+	// benchmark has zero risk.
+	Beta float64
+
+	Active       []float64 // a_i = p_i − b_i
+	Marginal     []float64 // (Σa)_i / TE
+	Contribution []float64 // a_i (Σa)_i / TE; sums to TE
+	Percent      []float64 // 100 · Contribution_i / TE
+	FactorPart   []float64 // a_i (BFx)_i / TE
+	SpecificPart []float64 // a_i² d_i / TE; FactorPart + SpecificPart = Contribution
+
+	// Menchero–Davis form of each asset's contribution, a_i · σ_i · ρ_i:
+	// Volatility σ_i = √Σ_ii and Correlation ρ_i = (Σa)_i / (σ_i TE), the
+	// correlation of asset i's return with the active return.
+	Volatility  []float64
+	Correlation []float64
+
+	// Litterman's hedges: Hedge_i is the trade in asset i alone (against
+	// cash, which carries no risk) that minimises the tracking error,
+	// −(Σa)_i / Σ_ii, and HedgedTE_i the tracking error after it,
+	// √(TE² − (Σa)_i²/Σ_ii). Both are 0 for an asset with Σ_ii = 0.
+	Hedge    []float64
+	HedgedTE []float64
+
+	// Factors holds each factor's exposure x_k, its volatility √F_kk, its
+	// correlation with the active return and its contribution
+	// x_k (Fx)_k / TE. Specific holds the same for the specific part taken
+	// as one source of risk with exposure 1: volatility √(aᵀDa), correlation
+	// √(aᵀDa)/TE, contribution aᵀDa/TE. Factor contributions plus the
+	// specific contribution sum to TE.
+	Factors  []Source
+	Specific Source
+
+	an  *Analyzer
+	sa  []float64 // Σa
+	fx  []float64 // F·x (factor form), for groups
+	buf []float64 // scratch K-vectors
+}
+
+// Source is one source of tracking error in the Menchero–Davis form
+//
+//	Contribution = Exposure · Volatility · Correlation
+//
+// with Percent = 100 · Contribution / TE.
+type Source struct {
+	Exposure, Volatility, Correlation, Contribution, Percent float64
+}
+
+// Decompose returns the decomposition of the tracking error of portfolio
+// against benchmark. It is DecomposeTo with a nil dst.
+func (a *Analyzer) Decompose(portfolio, benchmark []float64) (*Decomposition, error) {
+	return a.DecomposeTo(nil, portfolio, benchmark)
+}
+
+// DecomposeTo sets dst to the decomposition of the tracking error of
+// portfolio against benchmark (both in the model's asset order) and returns
+// it. A nil dst is allocated; a non-nil one is reused, its slices kept when
+// they have the capacity, so repeated calls do not allocate. The inputs are
+// not modified. With a = p − b, x = Bᵀa:
+//
+//	TE² = aᵀΣa = xᵀFx + aᵀDa
+//	marginal_i = (Σa)_i / TE,   contribution_i = a_i (Σa)_i / TE
+//	factor k:   x_k (Fx)_k / TE,   asset i specific part: a_i² d_i / TE
+//
+// The contributions sum to TE (Euler's theorem: TE is homogeneous of degree
+// one in a).
+//
+// DecomposeTo panics with mat.ErrShape if portfolio or benchmark does not have
+// length N. It returns an *InputError wrapping ErrNonFinite for a non-finite
+// weight (naming the vector and index), ErrEmpty if the portfolio holds
+// nothing (all weights zero), and an *InputError wrapping ErrNotPSD if aᵀΣa
+// is clearly negative. Cost O(N·K + K²) in factor form, O(N²) dense (two
+// matrix-vector products: Σa and Σb).
+//
+// References:
+//
+// Litterman, R. (1996). Hot spots and hedges. Journal of Portfolio
+// Management, special issue, 52–75.
+//
+// Menchero, J. & Davis, B. (2011). Risk contribution is exposure times
+// volatility times correlation. Journal of Portfolio Management 37(2), 97–106.
+func (a *Analyzer) DecomposeTo(dst *Decomposition, portfolio, benchmark []float64) (*Decomposition, error) {
+	if err := a.checkWeights(portfolio, benchmark); err != nil {
+		return nil, err
+	}
+	if dst == nil {
+		dst = &Decomposition{}
+	}
+	n, k := a.n, a.k
+	d := dst
+	d.an = a
+	d.Factored = a.factored
+	d.Active = grow(d.Active, n)
+	d.sa = grow(d.sa, n)
+	d.Marginal = grow(d.Marginal, n)
+	d.Contribution = grow(d.Contribution, n)
+	d.Percent = grow(d.Percent, n)
+	d.Volatility = grow(d.Volatility, n)
+	d.Correlation = grow(d.Correlation, n)
+	d.Hedge = grow(d.Hedge, n)
+	d.HedgedTE = grow(d.HedgedTE, n)
+	act := d.Active
+	for i := range act {
+		act[i] = portfolio[i] - benchmark[i]
+	}
+
+	// te2 = aᵀΣa, asb = aᵀΣb, bsb = bᵀΣb.
+	var te2, asb, bsb float64
+	if a.factored {
+		d.FactorPart = grow(d.FactorPart, n)
+		d.SpecificPart = grow(d.SpecificPart, n)
+		d.fx = grow(d.fx, k)
+		d.buf = grow(d.buf, 3*k)
+		if cap(d.Factors) < k {
+			d.Factors = make([]Source, k)
+		}
+		d.Factors = d.Factors[:k]
+		x, xb, fxb := d.buf[:k], d.buf[k:2*k], d.buf[2*k:]
+		// sa holds B·F·x first; D·a is added below.
+		gemv(blas.Trans, a.b, act, x)
+		gemv(blas.NoTrans, a.f, x, d.fx)
+		gemv(blas.NoTrans, a.b, d.fx, d.sa)
+		gemv(blas.Trans, a.b, benchmark, xb)
+		gemv(blas.NoTrans, a.f, xb, fxb)
+		fv := dot(x, d.fx)
+		asb = dot(x, fxb)
+		bsb = dot(xb, fxb)
+		var sv float64
+		for i, ai := range act {
+			di := a.d[i]
+			sv += di * ai * ai
+			asb += di * ai * benchmark[i]
+			bsb += di * benchmark[i] * benchmark[i]
+		}
+		if fv < 0 {
+			var err error
+			if fv, err = clampVariance(fv, x, diagOf(a.f)); err != nil {
+				return nil, err
+			}
+		}
+		d.FactorVariance, d.SpecificVariance = fv, sv
+		te2 = fv + sv
+	} else {
+		d.FactorPart, d.SpecificPart, d.Factors, d.fx = nil, nil, nil, nil
+		d.FactorVariance, d.SpecificVariance = 0, 0
+		d.buf = grow(d.buf, n)
+		sb := d.buf
+		blas64.Symv(1, a.sym, vec(act), 0, vec(d.sa))
+		blas64.Symv(1, a.sym, vec(benchmark), 0, vec(sb))
+		te2 = dot(act, d.sa)
+		asb = dot(act, sb)
+		bsb = dot(benchmark, sb)
+		var err error
+		if te2, err = clampVariance(te2, act, a.diag); err != nil {
+			return nil, err
+		}
+	}
+	te := math.Sqrt(te2)
+	d.TE = te
+	bsb = max(0, bsb)
+	d.BenchmarkRisk = math.Sqrt(bsb)
+	// pᵀΣp = aᵀΣa + 2aᵀΣb + bᵀΣb and pᵀΣb = aᵀΣb + bᵀΣb, from p = a + b.
+	d.PortfolioRisk = math.Sqrt(max(0, te2+2*asb+bsb))
+	d.Beta = 0
+	if bsb > 0 {
+		d.Beta = (asb + bsb) / bsb
+	}
+
+	inv := 0.0
+	if te > 0 {
+		inv = 1 / te
+	}
+	for i, ai := range act {
+		sai := d.sa[i]
+		if a.factored {
+			fp := ai * sai * inv
+			spec := a.d[i] * ai
+			sai += spec
+			d.sa[i] = sai
+			d.FactorPart[i] = fp
+			d.SpecificPart[i] = ai * spec * inv
+		}
+		d.Marginal[i] = sai * inv
+		c := ai * sai * inv
+		d.Contribution[i] = c
+		d.Percent[i] = 100 * c * inv
+		v := a.diag[i]
+		sd := math.Sqrt(v)
+		d.Volatility[i] = sd
+		d.Correlation[i], d.Hedge[i], d.HedgedTE[i] = 0, 0, te
+		if v > 0 {
+			d.Correlation[i] = sai * inv / sd
+			d.Hedge[i] = -sai / v
+			d.HedgedTE[i] = math.Sqrt(max(0, te2-sai*sai/v))
+		}
+	}
+	if a.factored {
+		x := d.buf[:k]
+		for j := range d.Factors {
+			sd := math.Sqrt(a.f.Data[j*k+j])
+			c := x[j] * d.fx[j] * inv
+			s := Source{Exposure: x[j], Volatility: sd, Contribution: c, Percent: 100 * c * inv}
+			if sd > 0 {
+				s.Correlation = d.fx[j] * inv / sd
+			}
+			d.Factors[j] = s
+		}
+		sd := math.Sqrt(d.SpecificVariance)
+		c := d.SpecificVariance * inv
+		d.Specific = Source{Exposure: 1, Volatility: sd, Correlation: sd * inv, Contribution: c, Percent: 100 * c * inv}
+	} else {
+		d.Specific = Source{}
+	}
+	return d, nil
+}
+
+// Annual is a decomposition's headline figures annualised.
+type Annual struct {
+	TE, PortfolioRisk, BenchmarkRisk float64
+}
+
+// Annualized returns TE, PortfolioRisk and BenchmarkRisk scaled by
+// √periodsPerYear (see Annualize). Contributions scale by the same factor.
+func (d *Decomposition) Annualized(periodsPerYear float64) Annual {
+	return Annual{
+		TE:            Annualize(d.TE, periodsPerYear),
+		PortfolioRisk: Annualize(d.PortfolioRisk, periodsPerYear),
+		BenchmarkRisk: Annualize(d.BenchmarkRisk, periodsPerYear),
+	}
+}
+
+func grow(s []float64, n int) []float64 {
+	if cap(s) < n {
+		return make([]float64, n)
+	}
+	return s[:n]
+}
+
+func diagOf(m blas64.General) []float64 {
+	d := make([]float64, m.Rows)
+	for i := range d {
+		d[i] = max(0, m.Data[i*m.Stride+i])
+	}
+	return d
+}
