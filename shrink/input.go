@@ -1,0 +1,144 @@
+package shrink
+
+import (
+	"math"
+
+	"gonum.org/v1/gonum/mat"
+)
+
+// sample is validated, centred data: y = x − m row by row, with the
+// normalised weights omega (nil for equal weights).
+type sample struct {
+	y     *mat.Dense
+	omega []float64 // nil means 1/T each
+	t, n  int
+	w2    float64 // Σ ω_t², 1/T for equal weights
+}
+
+// weight returns ω_t.
+func (s *sample) weight(t int) float64 {
+	if s.omega == nil {
+		return 1 / float64(s.t)
+	}
+	return s.omega[t]
+}
+
+// newSample validates x and w and centres x on its weighted column means.
+// minObs is the smallest number of rows (and of positive weights) allowed.
+// It panics with mat.ErrShape when len(w) is not T.
+func newSample(x mat.Matrix, w []float64, minObs int) (*sample, error) {
+	t, n := x.Dims()
+	if w != nil && len(w) != t {
+		panic(mat.ErrShape)
+	}
+	y := mat.NewDense(t, n, nil)
+	raw := y.RawMatrix()
+	for i := 0; i < t; i++ {
+		row := raw.Data[i*raw.Stride : i*raw.Stride+n]
+		for j := range row {
+			v := x.At(i, j)
+			if math.IsNaN(v) || math.IsInf(v, 0) {
+				return nil, &DataError{Row: i, Col: j, Value: v, Err: ErrNonFinite}
+			}
+			row[j] = v
+		}
+	}
+	omega, err := normWeights(w)
+	if err != nil {
+		return nil, err
+	}
+	obs := t
+	if omega != nil {
+		obs = 0
+		for _, v := range omega {
+			if v > 0 {
+				obs++
+			}
+		}
+	}
+	if obs < minObs {
+		return nil, &DataError{Row: -1, Col: -1, Value: float64(obs), Err: ErrTooFewObs}
+	}
+	s := &sample{y: y, omega: omega, t: t, n: n, w2: 1 / float64(t)}
+	if omega != nil {
+		s.w2 = 0
+		for _, v := range omega {
+			s.w2 += v * v
+		}
+	}
+	mean := make([]float64, n)
+	for i := 0; i < t; i++ {
+		wi := s.weight(i)
+		for j, v := range raw.Data[i*raw.Stride : i*raw.Stride+n] {
+			if omega == nil {
+				mean[j] += v
+			} else {
+				mean[j] += wi * v
+			}
+		}
+	}
+	if omega == nil {
+		for j := range mean {
+			mean[j] /= float64(t)
+		}
+	}
+	for i := 0; i < t; i++ {
+		row := raw.Data[i*raw.Stride : i*raw.Stride+n]
+		for j := range row {
+			row[j] -= mean[j]
+		}
+	}
+	return s, nil
+}
+
+// normWeights checks w and returns w/Σw, or nil for nil w.
+func normWeights(w []float64) ([]float64, error) {
+	if w == nil {
+		return nil, nil
+	}
+	var sum float64
+	for i, v := range w {
+		if !(v >= 0) || math.IsInf(v, 0) {
+			return nil, &DataError{Row: i, Col: -1, Value: v, Err: ErrWeights}
+		}
+		sum += v
+	}
+	if sum == 0 {
+		return nil, &DataError{Row: -1, Col: -1, Value: 0, Err: ErrWeights}
+	}
+	omega := make([]float64, len(w))
+	for i, v := range w {
+		omega[i] = v / sum
+	}
+	return omega, nil
+}
+
+// prepareSym returns dst sized n×n, allocating when nil or empty, and panics
+// with mat.ErrShape when it has another size.
+func prepareSym(dst *mat.SymDense, n int) *mat.SymDense {
+	switch {
+	case dst == nil:
+		return mat.NewSymDense(n, nil)
+	case dst.IsEmpty():
+		dst.ReuseAsSym(n)
+	case dst.SymmetricDim() != n:
+		panic(mat.ErrShape)
+	}
+	return dst
+}
+
+// checkSym validates a symmetric input: finite entries. It returns a copy.
+func checkSym(a mat.Symmetric) (*mat.SymDense, error) {
+	n := a.SymmetricDim()
+	c := mat.NewSymDense(n, nil)
+	for i := 0; i < n; i++ {
+		for j := i; j < n; j++ {
+			v := a.At(i, j)
+			if math.IsNaN(v) || math.IsInf(v, 0) {
+				return nil, &DataError{Row: i, Col: j, Value: v, Err: ErrNonFinite}
+			}
+			c.SetSym(i, j, v)
+		}
+	}
+	return c, nil
+}
