@@ -14,7 +14,7 @@ type Settings struct {
 	// NeweyWestLags is 0 for no adjustment, a positive number of lags, or
 	// AutoLags for ⌊4(T/100)^(2/9)⌋.
 	NeweyWestLags int
-	Options // missing data, mean and bias handling, as for CovarianceTo
+	Options       // missing data, mean and bias handling, as for CovarianceTo
 }
 
 // Estimate sets dst to the risk forecast with separate half-lives for
