@@ -1,0 +1,214 @@
+package dense
+
+import (
+	"runtime"
+	"sync"
+	"sync/atomic"
+)
+
+// Blocking of the product C = PᵀQ, where P is K×M and Q is K×N.
+//
+// The reduction index k runs in blocks of kc, and every element of C is
+// summed in the same fixed order — within a block by the micro-kernel, then
+// block after block into C — so the result does not depend on how tiles are
+// shared among workers. The output is cut into square tiles of side tile, a
+// multiple of every kernel's mr and nr; a tile of packed Q (tile×kc) stays in
+// the 1 MiB L2 cache of a core while the mr×kc slivers of P stream through L1.
+const (
+	kc   = 256
+	tile = 240
+)
+
+// operand is the K×M matrix P of a product PᵀQ, read from row-major data:
+// P(k, i) = data[k*stride+i], or data[i*stride+k] when trans is set. A
+// non-nil kw multiplies P(k, i) by kw[k], a non-nil iw by iw[i], as P is
+// packed.
+type operand struct {
+	data   []float64
+	stride int
+	trans  bool
+	kw, iw []float64
+}
+
+// packed is an operand copied into slivers r indices wide: for each block of
+// kc reductions, the slivers of r consecutive indices one after the other,
+// each holding its kk×r values k-major, zero padded past index m.
+type packed struct {
+	buf  []float64
+	r    int
+	mpad int // m rounded up to a multiple of r
+}
+
+// sliver returns the kk×r values of the sliver holding index i (a multiple
+// of r) in the block of reductions starting at k0.
+func (p *packed) sliver(k0, kk, i int) []float64 {
+	off := k0*p.mpad + i*kk
+	return p.buf[off : off+kk*p.r]
+}
+
+// pack copies the K×m operand into slivers r wide, one block of kc
+// reductions per task spread over the workers.
+func (op *operand) pack(k, m, r, workers int) *packed {
+	mpad := (m + r - 1) / r * r
+	p := &packed{buf: make([]float64, k*mpad), r: r, mpad: mpad}
+	blocks := (k + kc - 1) / kc
+	parallel(blocks, workers, func(b int) {
+		k0 := b * kc
+		kk := min(kc, k-k0)
+		for i := 0; i < m; i += r {
+			op.packSliver(p.sliver(k0, kk, i), k0, kk, i, min(r, m-i), r)
+		}
+	})
+	return p
+}
+
+// packSliver writes P(k0..k0+kk, i0..i0+w) into dst (kk×r, zero padded).
+func (op *operand) packSliver(dst []float64, k0, kk, i0, w, r int) {
+	if !op.trans {
+		for k := 0; k < kk; k++ {
+			src := op.data[(k0+k)*op.stride+i0:][:w]
+			row := dst[k*r : k*r+r]
+			copy(row, src)
+			clear(row[w:])
+			if op.kw != nil {
+				s := op.kw[k0+k]
+				for j := range src {
+					row[j] *= s
+				}
+			}
+			if op.iw != nil {
+				for j, s := range op.iw[i0 : i0+w] {
+					row[j] *= s
+				}
+			}
+		}
+		return
+	}
+	if w < r {
+		clear(dst)
+	}
+	for j := 0; j < w; j++ {
+		src := op.data[(i0+j)*op.stride+k0:][:kk]
+		s := 1.0
+		if op.iw != nil {
+			s = op.iw[i0+j]
+		}
+		switch {
+		case op.kw != nil:
+			for k, v := range src {
+				dst[k*r+j] = v * op.kw[k0+k] * s
+			}
+		case op.iw != nil:
+			for k, v := range src {
+				dst[k*r+j] = v * s
+			}
+		default:
+			for k, v := range src {
+				dst[k*r+j] = v
+			}
+		}
+	}
+}
+
+// product sets the m×n matrix C, row-major in c with stride ldc, to PᵀQ,
+// where P is k×m and Q is k×n. With upper set (m == n), only the elements
+// with i ≤ j are written: the rest of c is left untouched.
+func product(c []float64, ldc, m, n, k int, p, q *operand, upper bool, kern kernel) {
+	workers := runtime.GOMAXPROCS(0)
+	type task struct{ i, j int }
+	var tasks []task
+	for i := 0; i < m; i += tile {
+		j0 := 0
+		if upper {
+			j0 = i
+		}
+		for j := j0; j < n; j += tile {
+			tasks = append(tasks, task{i, j})
+		}
+	}
+	var pp, qp *packed
+	if k > 0 {
+		pp = p.pack(k, m, kern.mr, workers)
+		if upper && p == q && kern.mr == kern.nr {
+			qp = pp
+		} else {
+			qp = q.pack(k, n, kern.nr, workers)
+		}
+	}
+	parallel(len(tasks), workers, func(t int) {
+		tk := tasks[t]
+		mi, nj := min(tile, m-tk.i), min(tile, n-tk.j)
+		for i := tk.i; i < tk.i+mi; i++ {
+			j0 := tk.j
+			if upper {
+				j0 = max(j0, i)
+			}
+			if j0 < tk.j+nj {
+				clear(c[i*ldc+j0 : i*ldc+tk.j+nj])
+			}
+		}
+		var tmp []float64
+		for k0 := 0; k0 < k; k0 += kc {
+			kk := min(kc, k-k0)
+			for ir := 0; ir < mi; ir += kern.mr {
+				gi := tk.i + ir
+				a := pp.sliver(k0, kk, gi)
+				for jr := 0; jr < nj; jr += kern.nr {
+					gj := tk.j + jr
+					if upper && gi > gj+kern.nr-1 {
+						continue // wholly below the diagonal
+					}
+					b := qp.sliver(k0, kk, gj)
+					if ir+kern.mr <= mi && jr+kern.nr <= nj && (!upper || gi+kern.mr-1 <= gj) {
+						kern.fn(kk, a, b, c[gi*ldc+gj:], ldc)
+						continue
+					}
+					// An edge or diagonal sliver: through a scratch block, so
+					// that only elements of C inside the product are written,
+					// each by the same single addition as the direct path.
+					if tmp == nil {
+						tmp = make([]float64, kern.mr*kern.nr)
+					}
+					clear(tmp)
+					kern.fn(kk, a, b, tmp, kern.nr)
+					for i := 0; i < min(kern.mr, mi-ir); i++ {
+						row := c[(gi+i)*ldc:]
+						for j := 0; j < min(kern.nr, nj-jr); j++ {
+							if !upper || gi+i <= gj+j {
+								row[gj+j] += tmp[i*kern.nr+j]
+							}
+						}
+					}
+				}
+			}
+		}
+	})
+}
+
+// parallel calls f(0), …, f(n-1) on up to workers goroutines. Which
+// goroutine runs which call varies; f must not depend on it.
+func parallel(n, workers int, f func(int)) {
+	workers = min(workers, n)
+	if workers <= 1 {
+		for i := 0; i < n; i++ {
+			f(i)
+		}
+		return
+	}
+	var next atomic.Int64
+	var wg sync.WaitGroup
+	for w := 0; w < workers; w++ {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			for {
+				i := int(next.Add(1) - 1)
+				if i >= n {
+					return
+				}
+				f(i)
+			}
+		}()
+	}
+	wg.Wait()
+}

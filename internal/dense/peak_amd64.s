@@ -1,0 +1,55 @@
+//go:build amd64 && !purego
+
+#include "textflag.h"
+
+// The tight loops that measure the machine's peak for the benchmarks: twelve
+// independent chains of fused multiply-adds, enough to cover the latency of
+// the FMA units, with nothing else in the loop.
+
+// func peakAVX2(n int)
+// Each iteration: 12 VFMADD231PD on 4 lanes = 96 flops.
+TEXT ·peakAVX2(SB), NOSPLIT, $0-8
+	MOVQ n+0(FP), CX
+	VXORPD Y12, Y12, Y12
+	VXORPD Y13, Y13, Y13
+loopY:
+	VFMADD231PD Y12, Y13, Y0
+	VFMADD231PD Y12, Y13, Y1
+	VFMADD231PD Y12, Y13, Y2
+	VFMADD231PD Y12, Y13, Y3
+	VFMADD231PD Y12, Y13, Y4
+	VFMADD231PD Y12, Y13, Y5
+	VFMADD231PD Y12, Y13, Y6
+	VFMADD231PD Y12, Y13, Y7
+	VFMADD231PD Y12, Y13, Y8
+	VFMADD231PD Y12, Y13, Y9
+	VFMADD231PD Y12, Y13, Y10
+	VFMADD231PD Y12, Y13, Y11
+	DECQ CX
+	JNZ loopY
+	VZEROUPPER
+	RET
+
+// func peakAVX512(n int)
+// Each iteration: 12 VFMADD231PD on 8 lanes = 192 flops.
+TEXT ·peakAVX512(SB), NOSPLIT, $0-8
+	MOVQ n+0(FP), CX
+	VPXORQ Z12, Z12, Z12
+	VPXORQ Z13, Z13, Z13
+loopZ:
+	VFMADD231PD Z12, Z13, Z0
+	VFMADD231PD Z12, Z13, Z1
+	VFMADD231PD Z12, Z13, Z2
+	VFMADD231PD Z12, Z13, Z3
+	VFMADD231PD Z12, Z13, Z4
+	VFMADD231PD Z12, Z13, Z5
+	VFMADD231PD Z12, Z13, Z6
+	VFMADD231PD Z12, Z13, Z7
+	VFMADD231PD Z12, Z13, Z8
+	VFMADD231PD Z12, Z13, Z9
+	VFMADD231PD Z12, Z13, Z10
+	VFMADD231PD Z12, Z13, Z11
+	DECQ CX
+	JNZ loopZ
+	VZEROUPPER
+	RET
