@@ -75,13 +75,18 @@ func NewAnalyzer(cov Covariance) (*Analyzer, error) {
 
 func newFactored(fm Factored, n int) (*Analyzer, error) {
 	k := fm.NumFactors()
-	bm := fm.LoadingsTo(nil)
-	if r, c := bm.Dims(); r != n || c != k {
-		panic(mat.ErrShape)
-	}
-	fs := fm.FactorCovarianceTo(nil)
-	if fs.SymmetricDim() != k {
-		panic(mat.ErrShape)
+	// gonum has no 0×0 Dense: with no factors, B and F are not read.
+	var bm *mat.Dense
+	var fs *mat.SymDense
+	if k > 0 {
+		bm = fm.LoadingsTo(nil)
+		if r, c := bm.Dims(); r != n || c != k {
+			panic(mat.ErrShape)
+		}
+		fs = fm.FactorCovarianceTo(nil)
+		if fs.SymmetricDim() != k {
+			panic(mat.ErrShape)
+		}
 	}
 	d := fm.SpecificVariancesTo(nil)
 	if len(d) != n {
@@ -222,17 +227,29 @@ func (a *Analyzer) TrackingError(portfolio, benchmark []float64) (float64, error
 		x := make([]float64, 2*a.k)
 		gemv(blas.Trans, a.b, act, x[:a.k])
 		gemv(blas.NoTrans, a.f, x[:a.k], x[a.k:])
-		te2 = dot(x[:a.k], x[a.k:])
+		// The same sums in the same order as DecomposeTo, so both give
+		// bit-identical TE.
+		fv := dot(x[:a.k], x[a.k:])
+		var sv float64
 		for i, v := range act {
-			te2 += a.d[i] * v * v
+			sv += a.d[i] * v * v
 		}
+		if fv < 0 {
+			var err error
+			if fv, err = clampVariance(fv, x[:a.k], diagOf(a.f)); err != nil {
+				return 0, err
+			}
+		}
+		te2 = fv + sv
 	} else {
 		sa := make([]float64, a.n)
 		blas64.Symv(1, a.sym, vec(act), 0, vec(sa))
-		te2 = dot(act, sa)
+		var err error
+		if te2, err = clampVariance(dot(act, sa), act, a.diag); err != nil {
+			return 0, err
+		}
 	}
-	te2, err := clampVariance(te2, act, a.diag)
-	return math.Sqrt(te2), err
+	return math.Sqrt(te2), nil
 }
 
 // checkWeights panics on a length mismatch and reports non-finite weights and
