@@ -234,7 +234,7 @@ func dateText(v parquet.Value) string {
 	case parquet.Int96:
 		i := v.Int96()
 		nanos := int64(uint64(i[1])<<32 | uint64(i[0]))
-		return Date(int64(i[2])-julianEpoch).Time().Add(time.Duration(nanos)).Format(time.RFC3339Nano)
+		return Date(int64(i[2]) - julianEpoch).Time().Add(time.Duration(nanos)).Format(time.RFC3339Nano)
 	case parquet.ByteArray:
 		return string(v.ByteArray())
 	}
