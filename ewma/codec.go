@@ -14,8 +14,8 @@ const (
 )
 
 // MarshalBinary encodes the state so that a later run can continue it with
-// UnmarshalBinary. Size about 8·(2N² + Window·N) bytes for a full state
-// (2.5·N² with Demean), 8·(5N + Window·N) with VariancesOnly.
+// UnmarshalBinary. Size about 8·(3N² + Window·N) bytes for a full state
+// (4N² with Demean), 8·(5N + Window·N) with VariancesOnly.
 func (r *Recursive) MarshalBinary() ([]byte, error) {
 	var b []byte
 	b = append(b, codecMagic...)
@@ -39,6 +39,9 @@ func (r *Recursive) MarshalBinary() ([]byte, error) {
 	}
 	if r.p != nil {
 		b = appendFloats(b, r.p)
+	}
+	if r.q != nil {
+		b = appendFloats(b, r.q)
 	}
 	return b, nil
 }
@@ -94,6 +97,9 @@ func (r *Recursive) UnmarshalBinary(data []byte) error {
 	if s.opts.Demean {
 		need += full
 	}
+	if !s.varOnly {
+		need += full
+	}
 	if len(d.b) != 8*need {
 		return errAt(ErrState, -1, -1, -1, float64(len(d.b)))
 	}
@@ -110,6 +116,9 @@ func (r *Recursive) UnmarshalBinary(data []byte) error {
 	}
 	if s.p != nil {
 		d.floats(s.p)
+	}
+	if s.q != nil {
+		d.floats(s.q)
 	}
 	*r = s
 	return nil

@@ -43,7 +43,7 @@ func CovarianceTo(dst *mat.SymDense, x mat.Matrix, w []float64, opts *Options) (
 	if err != nil {
 		return nil, err
 	}
-	m := d.products(o.Demean)
+	m := d.products(o.Demean, false)
 	rep := &Report{}
 	if err := finishCov(dst, m, o, o.Unbiased, rep); err != nil {
 		return rep, err
@@ -61,11 +61,13 @@ func CovarianceTo(dst *mat.SymDense, x mat.Matrix, w []float64, opts *Options) (
 //	C_ij = Σ_ij / √(Σ_ii Σ_jj)
 //
 // with Σ the biased covariance of CovarianceTo (opts.Unbiased is ignored: it
-// would cancel without missing data). With pairwise data Σ_ij uses the dates
-// both assets share and Σ_ii each asset's own dates: pandas' convention for
-// ewm(...).corr(). A pairwise correlation can therefore exceed 1 in magnitude
-// or fail to be positive semidefinite; it is then repaired as in
-// CovarianceTo, which keeps the unit diagonal, and the repair is reported.
+// would cancel without missing data). With pairwise data all three moments
+// of an entry use the dates both assets share (and, with Demean, the means
+// over those dates), so |C_ij| ≤ 1: pandas' convention, whose pairwise
+// DataFrame.ewm().corr() masks each column with the other's gaps. A pairwise
+// correlation matrix can still fail to be positive semidefinite; it is then
+// repaired as in CovarianceTo, which keeps the unit diagonal, and the repair
+// is reported.
 //
 // Panics and errors as for CovarianceTo, plus ErrZeroVariance for a column of
 // zero variance. Cost as for CovarianceTo.
@@ -84,7 +86,7 @@ func CorrelationTo(dst *mat.SymDense, x mat.Matrix, w []float64, opts *Options) 
 	if err != nil {
 		return nil, err
 	}
-	m := d.products(o.Demean)
+	m := d.products(o.Demean, true)
 	rep := &Report{}
 	if err := finishCorr(dst, m, o, rep); err != nil {
 		return rep, err
@@ -96,7 +98,7 @@ func finishCorr(dst *mat.SymDense, m *sums, o Options, rep *Report) error {
 	if err := finishCov(dst, m, o, false, rep); err != nil {
 		return err
 	}
-	if err := normalise(dst); err != nil {
+	if err := correlate(dst, m); err != nil {
 		return err
 	}
 	if m.wt != nil {

@@ -27,7 +27,8 @@ type Settings struct {
 // (CorrelationTo) under Weights(T, CorrHalfLife), both over the T rows of x.
 // With NeweyWestLags ≠ 0 both are computed from the Newey–West adjusted
 // covariance of NeweyWestTo under their own weights (the variances from its
-// diagonal, C by normalising it). C is checked and repaired as in
+// diagonal, C by dividing it by the square roots of its diagonal, so with
+// gaps an entry of C may leave [−1, 1] before the repair). C is checked and repaired as in
 // CorrelationTo when values are missing or lags are used, so Σ is positive
 // semidefinite. The Report is that of the correlation step, with
 // VolEffectiveObs from the volatility weights.
@@ -96,7 +97,7 @@ func Estimate(dst *mat.SymDense, x mat.Matrix, s Settings) (*Report, error) {
 	if err != nil {
 		return nil, err
 	}
-	m := d.products(o.Demean)
+	m := d.products(o.Demean, true)
 	rep := &Report{NeweyWestLags: lags}
 	if err := finishCov(dst, m, o, false, rep); err != nil {
 		return rep, err
@@ -106,7 +107,12 @@ func Estimate(dst *mat.SymDense, x mat.Matrix, s Settings) (*Report, error) {
 		plain.Unbiased = false
 		addLagTerms(dst, d, m, lags, plain)
 	}
-	if err := normalise(dst); err != nil {
+	if lags > 0 {
+		err = normalise(dst)
+	} else {
+		err = correlate(dst, m)
+	}
+	if err != nil {
 		return rep, err
 	}
 	if m.wt != nil || lags > 0 {

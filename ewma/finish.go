@@ -42,9 +42,43 @@ func finishCov(dst *mat.SymDense, m *sums, o Options, unbiased bool, rep *Report
 	return nil
 }
 
-// normalise turns the covariance in dst into a correlation in place, using
-// its own diagonal: with pairwise data, the covariance of a pair divided by
-// the square roots of each column's variance over its own observations.
+// correlate turns the biased covariance in dst into a correlation in place.
+// Without missing data (m.q nil) it divides by the diagonal; with pairwise
+// data each covariance is divided by the two variances over the dates the
+// pair shares, so that |C_ij| ≤ 1 (pandas' convention: its pairwise
+// DataFrame.ewm().corr() masks each column with the other's gaps).
+func correlate(dst *mat.SymDense, m *sums) error {
+	if m.q == nil {
+		return normalise(dst)
+	}
+	n := m.n
+	raw := dst.RawSymmetric()
+	for i := 0; i < n; i++ {
+		if v := raw.Data[i*raw.Stride+i]; !(v > 0) {
+			return errAt(ErrZeroVariance, -1, i, -1, v)
+		}
+	}
+	for i := 0; i < n; i++ {
+		row := raw.Data[i*raw.Stride : i*raw.Stride+n]
+		for j := i + 1; j < n; j++ {
+			wt := m.wt[i*n+j]
+			vi, vj := m.q[i*n+j]/wt, m.q[j*n+i]/wt
+			if m.p != nil {
+				mi, mj := m.p[i*n+j]/wt, m.p[j*n+i]/wt
+				vi -= mi * mi
+				vj -= mj * mj
+			}
+			if !(vi > 0) || !(vj > 0) {
+				return errAt(ErrZeroVariance, -1, i, j, math.Min(vi, vj))
+			}
+			row[j] /= math.Sqrt(vi * vj)
+		}
+		row[i] = 1
+	}
+	return nil
+}
+
+// normalise divides the covariance in dst by its own diagonal.
 func normalise(dst *mat.SymDense) error {
 	n := dst.SymmetricDim()
 	raw := dst.RawSymmetric()

@@ -69,7 +69,7 @@ func NeweyWestTo(dst *mat.SymDense, x mat.Matrix, w []float64, lags int, opts *O
 	if err != nil {
 		return nil, err
 	}
-	m := d.products(o.Demean)
+	m := d.products(o.Demean, false)
 	rep := &Report{NeweyWestLags: lags}
 	if err := finishCov(dst, m, o, o.Unbiased, rep); err != nil {
 		return rep, err

@@ -30,7 +30,7 @@ type RecursiveSettings struct {
 // unnormalised weights λ^a of a day of age a (today a = 0):
 //
 //	s_ij = Σ λ^a m_i m_j x_i x_j,   wt_ij = Σ λ^a m_i m_j,   w2_ij = Σ λ^(2a) m_i m_j,
-//	n_ij = Σ m_i m_j,   and with Demean p_ij = Σ λ^a m_i m_j x_i
+//	n_ij = Σ m_i m_j,   q_ij = Σ λ^a m_i m_j x_i²,   and with Demean p_ij = Σ λ^a m_i m_j x_i
 //
 // (m is 1 for a present value, 0 for NaN). Update multiplies each by λ (λ²
 // for w2), adds today's terms and, when the window is full, subtracts the
@@ -65,14 +65,14 @@ type Recursive struct {
 
 	// n×n row-major, upper triangle used (p in full); length n with
 	// VariancesOnly.
-	s, p, wt, w2, cnt []float64
+	s, p, q, wt, w2, cnt []float64
 
 	x0, mk, ox0, omk []float64 // scratch for the new and the dropped day
 }
 
 // NewRecursive returns an empty state for n assets. It panics if n < 1 or
 // s.Window < 0, and returns an error wrapping ErrHalfLife for a bad
-// half-life. Memory: O(n²) (five n×n arrays; four without Demean) plus the
+// half-life. Memory: O(n²) (seven n×n arrays; six without Demean) plus the
 // window, or O(n) with VariancesOnly.
 func NewRecursive(n int, s RecursiveSettings) (*Recursive, error) {
 	if n < 1 || s.Window < 0 {
@@ -100,6 +100,9 @@ func (r *Recursive) alloc() {
 	r.cnt = make([]float64, size)
 	if r.opts.Demean {
 		r.p = make([]float64, size)
+	}
+	if !r.varOnly {
+		r.q = make([]float64, size)
 	}
 	r.ring = make([]float64, r.window*n)
 	r.x0 = make([]float64, n)
@@ -229,12 +232,18 @@ func (r *Recursive) updatePairs(lw float64) {
 			w2[k] = l2*w2[k] + mm - lw2*omm
 			cnt[k] += mm - omm
 		}
+		// p_ij = Σ λ^a x_i m_j and q_ij = Σ λ^a x_i² m_j over the full row:
+		// x0 is 0 where x is missing, so m_i is implied.
 		if r.p != nil {
-			// p_ij = Σ λ^a x_i m_j over the full row: x0 is 0 where x is missing.
 			p := r.p[i*n : (i+1)*n]
 			for k := range p {
 				p[k] = l*p[k] + a*mk[k] - lw*oa*omk[k]
 			}
+		}
+		q := r.q[i*n : (i+1)*n]
+		aa, oaa := a*a, lw*oa*oa
+		for k := range q {
+			q[k] = l*q[k] + aa*mk[k] - oaa*omk[k]
 		}
 	}
 }
@@ -242,6 +251,9 @@ func (r *Recursive) updatePairs(lw float64) {
 func (r *Recursive) sums() *sums {
 	m := &sums{n: r.n, s: r.s, p: r.p, wt: r.wt, w2: r.w2, cnt: r.cnt,
 		missing: r.missing, rows: r.Len(), used: r.used}
+	if r.missing > 0 {
+		m.q = r.q
+	}
 	if r.sw2 > 0 {
 		m.eff = r.sw * r.sw / r.sw2
 	}
@@ -302,7 +314,7 @@ func (r *Recursive) CorrelationTo(dst *mat.SymDense) (*Report, error) {
 	if err := finishCov(dst, m, r.opts, false, rep); err != nil {
 		return rep, err
 	}
-	if err := normalise(dst); err != nil {
+	if err := correlate(dst, m); err != nil {
 		return rep, err
 	}
 	if r.missing > 0 {

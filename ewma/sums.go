@@ -9,10 +9,11 @@ import (
 
 // sums are the weighted sums from which every second moment is finished. All
 // n×n slices are row-major with stride n and only their upper triangle
-// (i ≤ j) is read, except p which is read in full.
+// (i ≤ j) is read, except p and q which are read in full.
 //
 //	s_ij   = Σ_t w_t m_ti m_tj x_ti x_tj
 //	p_ij   = Σ_t w_t m_ti m_tj x_ti        (nil: s is already centred or zero mean)
+//	q_ij   = Σ_t w_t m_ti m_tj x_ti²       (nil: not needed or nothing missing)
 //	wt_ij  = Σ_t w_t m_ti m_tj
 //	w2_ij  = Σ_t w_t² m_ti m_tj
 //	cnt_ij = Σ_t [w_t > 0] m_ti m_tj
@@ -20,12 +21,12 @@ import (
 // Without missing data wt, w2 and cnt are the same for every pair: they are
 // then nil and the scalars hold them.
 type sums struct {
-	n                 int
-	s, p, wt, w2, cnt []float64
-	wtS, w2S, cntS    float64
-	missing           int // missing values in the used rows
-	rows, used        int
-	eff               float64 // (Σw)²/Σw² over used rows
+	n                    int
+	s, p, q, wt, w2, cnt []float64
+	wtS, w2S, cntS       float64
+	missing              int // missing values in the used rows
+	rows, used           int
+	eff                  float64 // (Σw)²/Σw² over used rows
 }
 
 func (m *sums) pair(k int) (wt, w2, cnt float64) {
@@ -153,8 +154,10 @@ func (d *panelData) columnMeans() []float64 {
 
 // products forms the sums of d with the shared dense kernel: (X0)ᵀW(X0) and,
 // with missing data, MᵀWM, MᵀW²M and the counts MᵀM; with Demean and missing
-// data the cross sums (X0)ᵀWM come from one product of [X0 M].
-func (d *panelData) products(demean bool) *sums {
+// data the cross sums (X0)ᵀWM come from one product of [X0 M]. With needQ
+// and missing data it also forms q = (X0∘X0)ᵀWM, the pairwise sums of squares
+// a correlation needs.
+func (d *panelData) products(demean, needQ bool) *sums {
 	t, n := d.t, d.n
 	m := &sums{n: n, missing: d.missing, rows: t, used: d.used}
 	var sw, sw2 float64
@@ -206,6 +209,21 @@ func (d *panelData) products(demean bool) *sums {
 		m.wt = dense.XtWX(nil, mk, d.w).RawSymmetric().Data
 	}
 	m.w2 = dense.XtWX(nil, mk, w2).RawSymmetric().Data
+	if needQ {
+		sq := make([]float64, t*n)
+		wm := make([]float64, t*n)
+		for i := 0; i < t; i++ {
+			for j := 0; j < n; j++ {
+				k := i*n + j
+				sq[k] = d.x0[k] * d.x0[k]
+				wm[k] = d.w[i] * d.mask[k]
+			}
+		}
+		// A general product: q is not symmetric. gonum's Dgemm uses all cores.
+		q := mat.NewDense(n, n, nil)
+		q.Mul(mat.NewDense(t, n, sq).T(), mat.NewDense(t, n, wm))
+		m.q = q.RawMatrix().Data
+	}
 	m.cnt = dense.XtWX(nil, mk, ind).RawSymmetric().Data
 	return m
 }
