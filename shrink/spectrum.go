@@ -1,0 +1,83 @@
+package shrink
+
+import (
+	"math"
+
+	"gonum.org/v1/gonum/mat"
+
+	"github.com/riskmodel/riskmodel/internal/dense"
+)
+
+// eigen returns the eigenvalues of a in ascending order and the eigenvectors
+// as the rows of an n×n matrix (row k belongs to value k). Cost O(n³).
+func eigen(a mat.Symmetric) ([]float64, *mat.Dense, error) {
+	var e mat.EigenSym
+	if !e.Factorize(a, true) {
+		return nil, nil, ErrNoEigen
+	}
+	vals := e.Values(nil)
+	var v mat.Dense
+	e.VectorsTo(&v)
+	rows := mat.DenseCopyOf(v.T())
+	return vals, rows, nil
+}
+
+// recompose sets dst to Σ_k d_k u_k u_kᵀ + c·I for the rows u_k of u, and
+// returns it. Coefficients of either sign are split so that the products
+// still go through the multi-core kernel, which takes non-negative weights.
+func recompose(dst *mat.SymDense, u *mat.Dense, d []float64, c float64) *mat.SymDense {
+	_, n := u.Dims()
+	dst = prepareSym(dst, n)
+	pos := make([]float64, len(d))
+	neg := make([]float64, len(d))
+	anyNeg := false
+	for k, v := range d {
+		if v >= 0 {
+			pos[k] = v
+		} else {
+			neg[k] = -v
+			anyNeg = true
+		}
+	}
+	dense.XtWX(dst, u, pos)
+	if anyNeg {
+		m := dense.XtWX(nil, u, neg)
+		m.ScaleSym(-1, m)
+		dst.AddSym(dst, m)
+	}
+	if c != 0 {
+		for i := 0; i < n; i++ {
+			dst.SetSym(i, i, dst.At(i, i)+c)
+		}
+	}
+	return dst
+}
+
+// condition returns λ_max/λ_min of ascending eigenvalues, +Inf when
+// λ_min ≤ 0.
+func condition(vals []float64) float64 {
+	if len(vals) == 0 {
+		return math.NaN()
+	}
+	lo, hi := vals[0], vals[len(vals)-1]
+	if lo <= 0 {
+		return math.Inf(1)
+	}
+	return hi / lo
+}
+
+// Condition returns the 2-norm condition number λ_max/λ_min of the
+// symmetric matrix a (+Inf when λ_min ≤ 0), from its eigenvalues. Errors:
+// a *DataError wrapping ErrNonFinite, or ErrNoEigen. Cost O(N³): it
+// eigen-decomposes a, so avoid it for large N.
+func Condition(a mat.Symmetric) (float64, error) {
+	c, err := checkSym(a)
+	if err != nil {
+		return 0, err
+	}
+	var e mat.EigenSym
+	if !e.Factorize(c, false) {
+		return 0, ErrNoEigen
+	}
+	return condition(e.Values(nil)), nil
+}
