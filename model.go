@@ -29,7 +29,7 @@ type Model struct {
 	Settings       map[string]string // the estimator's settings, in words, for the record
 	Notes          []string          // repairs and other facts a reader must know
 
-	Factor *factor.Model  // set for a factor-form model
+	Factor *factor.Model // set for a factor-form model
 	Dense  *mat.SymDense // set for a dense model
 }
 
