@@ -2,6 +2,7 @@ package riskmodel
 
 import (
 	"math"
+	"sort"
 
 	"github.com/montanaflynn/stats"
 )
@@ -166,7 +167,7 @@ func Quality(p *Panel, opts *QualityOptions) *QualityReport {
 				endRun(i)
 			}
 		}
-		endRun(indexAfter(p.dates, c.Last))
+		endRun(sort.Search(t, func(i int) bool { return p.dates[i] > c.Last }))
 		life += span
 		q.Gaps += span - c.Count
 		q.Outliers, q.NoSpread = outliers(q.Outliers, q.NoSpread, p, j, x, o.OutlierMADs)
@@ -178,20 +179,6 @@ func Quality(p *Panel, opts *QualityOptions) *QualityReport {
 		q.MissingShare = float64(q.Gaps) / float64(life)
 	}
 	return q
-}
-
-// indexAfter returns the row after date d, which must be in dates.
-func indexAfter(dates []Date, d Date) int {
-	lo, hi := 0, len(dates)
-	for lo < hi {
-		m := (lo + hi) / 2
-		if dates[m] <= d {
-			lo = m + 1
-		} else {
-			hi = m
-		}
-	}
-	return lo
 }
 
 // outliers appends the outliers of column j, whose observed returns are x.
