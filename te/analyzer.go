@@ -39,6 +39,9 @@ type Analyzer struct {
 	sym blas64.Symmetric
 
 	diag []float64 // Σ_ii, for volatilities and hedges
+	sd   []float64 // √Σ_ii
+	isd  []float64 // 1/√Σ_ii, 0 where Σ_ii = 0
+	idg  []float64 // 1/Σ_ii, 0 where Σ_ii = 0
 }
 
 // NewAnalyzer prepares cov for tracking-error analysis.
@@ -53,7 +56,7 @@ type Analyzer struct {
 // in place through its raw storage, without a copy, so it must not be changed
 // while the Analyzer is in use; any other mat.Symmetric is copied once through
 // At into a dense matrix (O(N²) memory). Σa is then the dense symmetric
-// product (BLAS Dsymv), O(N²), and no factor split is available: see
+// product, O(N²) in one pass over the stored triangle, and no factor split is available: see
 // Decomposition.Factored.
 //
 // NewAnalyzer returns an *InputError wrapping ErrNonFinite for a non-finite
@@ -67,10 +70,25 @@ func NewAnalyzer(cov Covariance) (*Analyzer, error) {
 	if n == 0 {
 		return nil, ErrEmpty
 	}
+	var a *Analyzer
+	var err error
 	if fm, ok := cov.(Factored); ok {
-		return newFactored(fm, n)
+		a, err = newFactored(fm, n)
+	} else {
+		a, err = newDense(cov, n)
 	}
-	return newDense(cov, n)
+	if err != nil {
+		return nil, err
+	}
+	// Reciprocals once here turn the per-portfolio divisions into products.
+	a.sd, a.isd, a.idg = make([]float64, n), make([]float64, n), make([]float64, n)
+	for i, v := range a.diag {
+		a.sd[i] = math.Sqrt(v)
+		if v > 0 {
+			a.isd[i], a.idg[i] = 1/a.sd[i], 1/v
+		}
+	}
+	return a, nil
 }
 
 func newFactored(fm Factored, n int) (*Analyzer, error) {
@@ -193,7 +211,7 @@ func (a *Analyzer) MulVecTo(dst, x []float64) []float64 {
 		a.factorMul(dst, x, bx[:a.k], bx[a.k:])
 		return dst
 	}
-	blas64.Symv(1, a.sym, vec(x), 0, vec(dst))
+	symv(a.sym, x, dst, nil, nil)
 	return dst
 }
 
@@ -243,7 +261,7 @@ func (a *Analyzer) TrackingError(portfolio, benchmark []float64) (float64, error
 		te2 = fv + sv
 	} else {
 		sa := make([]float64, a.n)
-		blas64.Symv(1, a.sym, vec(act), 0, vec(sa))
+		symv(a.sym, act, sa, nil, nil)
 		var err error
 		if te2, err = clampVariance(dot(act, sa), act, a.diag); err != nil {
 			return 0, err
@@ -303,7 +321,8 @@ func checkVar(field string, i int, v float64) error {
 	return nil
 }
 
-func finite(v float64) bool { return !math.IsNaN(v) && !math.IsInf(v, 0) }
+// finite reports whether v is neither NaN nor ±Inf: for those, v − v is NaN.
+func finite(v float64) bool { return v-v == 0 }
 
 func vec(x []float64) blas64.Vector { return blas64.Vector{N: len(x), Inc: 1, Data: x} }
 

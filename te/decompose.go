@@ -177,8 +177,7 @@ func (a *Analyzer) DecomposeTo(dst *Decomposition, portfolio, benchmark []float6
 		d.FactorVariance, d.SpecificVariance = 0, 0
 		d.buf = grow(d.buf, n)
 		sb := d.buf
-		blas64.Symv(1, a.sym, vec(act), 0, vec(d.sa))
-		blas64.Symv(1, a.sym, vec(benchmark), 0, vec(sb))
+		symv(a.sym, act, d.sa, benchmark, sb)
 		te2 = dot(act, d.sa)
 		asb = dot(act, sb)
 		bsb = dot(benchmark, sb)
@@ -202,30 +201,35 @@ func (a *Analyzer) DecomposeTo(dst *Decomposition, portfolio, benchmark []float6
 	if te > 0 {
 		inv = 1 / te
 	}
-	for i, ai := range act {
-		sai := d.sa[i]
-		if a.factored {
-			fp := ai * sai * inv
-			spec := a.d[i] * ai
-			sai += spec
-			d.sa[i] = sai
-			d.FactorPart[i] = fp
-			d.SpecificPart[i] = ai * spec * inv
-		}
-		d.Marginal[i] = sai * inv
-		c := ai * sai * inv
-		d.Contribution[i] = c
-		d.Percent[i] = 100 * c * inv
-		v := a.diag[i]
-		sd := math.Sqrt(v)
-		d.Volatility[i] = sd
-		d.Correlation[i], d.Hedge[i], d.HedgedTE[i] = 0, 0, te
-		if v > 0 {
-			d.Correlation[i] = sai * inv / sd
-			d.Hedge[i] = -sai / v
-			d.HedgedTE[i] = math.Sqrt(max(0, te2-sai*sai/v))
+	if a.factored {
+		// Σa = BFx + Da: split into its factor and specific parts.
+		sa, spd, fp, sp := d.sa[:n], a.d[:n], d.FactorPart[:n], d.SpecificPart[:n]
+		for i, ai := range act {
+			spec := spd[i] * ai
+			fp[i] = ai * sa[i] * inv
+			sp[i] = ai * spec * inv
+			sa[i] += spec
 		}
 	}
+	// Slices held in locals and cut to n let the compiler drop bounds
+	// checks and keep the headers in registers (stores through d could
+	// otherwise alias them).
+	sa, mg, ct, pc := d.sa[:n], d.Marginal[:n], d.Contribution[:n], d.Percent[:n]
+	cr, hg, ht := d.Correlation[:n], d.Hedge[:n], d.HedgedTE[:n]
+	isd, idg := a.isd[:n], a.idg[:n]
+	for i, ai := range act {
+		sai := sa[i]
+		mg[i] = sai * inv
+		c := ai * sai * inv
+		ct[i] = c
+		pc[i] = 100 * c * inv
+		// isd and idg are 0 where Σ_ii = 0: correlation and hedge 0, TE kept.
+		cr[i] = sai * inv * isd[i]
+		h := -sai * idg[i]
+		hg[i] = h
+		ht[i] = math.Sqrt(max(0, te2+sai*h))
+	}
+	copy(d.Volatility, a.sd)
 	if a.factored {
 		x := d.buf[:k]
 		for j := range d.Factors {

@@ -33,42 +33,84 @@ type Group struct {
 	Correlation  float64
 }
 
-// Groups returns the decomposition by group, one Group per distinct label,
-// in increasing order of label. labels[i] is the label of asset i. The group
-// contributions are sums of the asset contributions, so they sum to TE.
+// Grouping is a labelling of assets (labels[i] for asset i) prepared once,
+// so that decomposing many portfolios by the same groups does not sort the
+// labels each time. It is read-only and safe for concurrent use.
+type Grouping struct {
+	names   []string // distinct labels, increasing
+	of      []int    // group of each asset
+	members [][]int  // assets of each group, increasing
+}
+
+// NewGrouping prepares a labelling of len(labels) assets. The labels are
+// copied. Cost O(N log G) for G distinct labels.
+func NewGrouping(labels []string) *Grouping {
+	idx := make(map[string]int)
+	for _, s := range labels {
+		idx[s] = 0
+	}
+	names := make([]string, 0, len(idx))
+	for s := range idx {
+		names = append(names, s)
+	}
+	slices.Sort(names)
+	for g, s := range names {
+		idx[s] = g
+	}
+	gr := &Grouping{names: names, of: make([]int, len(labels)), members: make([][]int, len(names))}
+	for i, s := range labels {
+		g := idx[s]
+		gr.of[i] = g
+		gr.members[g] = append(gr.members[g], i)
+	}
+	return gr
+}
+
+// Len returns the number of assets labelled.
+func (g *Grouping) Len() int { return len(g.of) }
+
+// Labels returns the distinct labels in increasing order, the order of the
+// groups in GroupsTo's result.
+func (g *Grouping) Labels() []string { return slices.Clone(g.names) }
+
+// Groups returns the decomposition by group for the labelling labels[i] of
+// asset i. It is GroupsTo(nil, NewGrouping(labels)).
+func (d *Decomposition) Groups(labels []string) []Group {
+	return d.GroupsTo(nil, NewGrouping(labels))
+}
+
+// GroupsTo sets dst to the decomposition by group, one Group per distinct
+// label in increasing order of label, and returns it; dst is reused when it
+// has the capacity, else allocated. The group contributions are sums of the
+// asset contributions, so they sum to TE.
 //
-// Groups panics with mat.ErrShape if len(labels) is not N. Cost O(N·K + G·K²)
-// in factor form for G groups, O(N + Σ_g n_g²) dense (n_g members of group g).
+// GroupsTo panics with mat.ErrShape if the grouping does not label N assets.
+// Cost O(N·K + G·K²) in factor form for G groups, O(N + Σ_g n_g²) dense (n_g
+// members of group g).
 //
 // References:
 //
 // Menchero, J. & Davis, B. (2011). Risk contribution is exposure times
 // volatility times correlation. Journal of Portfolio Management 37(2), 97–106.
-func (d *Decomposition) Groups(labels []string) []Group {
+func (d *Decomposition) GroupsTo(dst []Group, gr *Grouping) []Group {
 	a := d.an
-	if len(labels) != a.n {
+	if len(gr.of) != a.n {
 		panic(mat.ErrShape)
 	}
-	names := slices.Clone(labels)
-	slices.Sort(names)
-	names = slices.Compact(names)
-	idx := make(map[string]int, len(names))
-	gs := make([]Group, len(names))
-	for g, s := range names {
-		idx[s] = g
-		gs[g].Label = s
+	ng := len(gr.names)
+	if cap(dst) < ng {
+		dst = make([]Group, ng)
 	}
-	of := make([]int, a.n)
-	for i, s := range labels {
-		of[i] = idx[s]
+	gs := dst[:ng]
+	for g, s := range gr.names {
+		gs[g] = Group{Label: s, Members: len(gr.members[g])}
 	}
 	inv := 0.0
 	if d.TE > 0 {
 		inv = 1 / d.TE
 	}
-	for i, g := range of {
+	for i, g := range gr.of {
 		p := &gs[g]
-		p.Members++
 		p.ActiveWeight += d.Active[i]
 		p.Contribution += d.Contribution[i]
 		if d.Factored {
@@ -76,7 +118,7 @@ func (d *Decomposition) Groups(labels []string) []Group {
 			p.Specific += d.SpecificPart[i]
 		}
 	}
-	vars := d.groupVariances(of, len(gs))
+	vars := d.groupVariances(gr)
 	for g := range gs {
 		p := &gs[g]
 		p.Percent = 100 * p.Contribution * inv
@@ -89,24 +131,27 @@ func (d *Decomposition) Groups(labels []string) []Group {
 }
 
 // groupVariances returns a_gᵀΣa_g for each group g.
-func (d *Decomposition) groupVariances(of []int, ng int) []float64 {
+func (d *Decomposition) groupVariances(gr *Grouping) []float64 {
 	a := d.an
+	of, ng := gr.of, len(gr.names)
 	v := make([]float64, ng)
 	if a.factored {
 		k := a.k
 		// x_g = Bᵀa_g for every group in one pass over B.
 		xg := make([]float64, ng*k+k)
+		act, bd, sd := d.Active[:len(of)], a.b.Data, a.d[:len(of)]
 		for i, g := range of {
-			ai := d.Active[i]
+			ai := act[i]
 			if ai == 0 {
 				continue
 			}
-			row := a.b.Data[i*k : (i+1)*k]
-			x := xg[g*k : (g+1)*k]
+			row := bd[i*k : (i+1)*k : (i+1)*k]
+			x := xg[g*k : (g+1)*k : (g+1)*k]
+			x = x[:len(row)]
 			for j, bij := range row {
 				x[j] += ai * bij
 			}
-			v[g] += a.d[i] * ai * ai
+			v[g] += sd[i] * ai * ai
 		}
 		fx := xg[ng*k:]
 		for g := range v {
@@ -116,16 +161,13 @@ func (d *Decomposition) groupVariances(of []int, ng int) []float64 {
 		}
 		return v
 	}
-	members := make([][]int, ng)
-	for i, g := range of {
-		if d.Active[i] != 0 {
-			members[g] = append(members[g], i)
-		}
-	}
-	for g, m := range members {
+	for g, m := range gr.members {
 		var s float64
 		for p, i := range m {
 			ai := d.Active[i]
+			if ai == 0 {
+				continue
+			}
 			s += ai * ai * a.diag[i]
 			var off float64
 			for _, j := range m[p+1:] {
