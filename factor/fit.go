@@ -237,7 +237,7 @@ func (d *data) sumSquares() float64 {
 // decompose returns the leading r principal components of the current data.
 func (d *data) decompose(s resolved, r, iters int, seed uint64, start *mat.Dense) pcs {
 	if s.Method == Gram {
-		p, ok := gramSVD(d.z, r)
+		p, ok := gramSVD(d.z, r, s.Oversample, iters, seed)
 		if !ok {
 			panic("factor: eigendecomposition of the Gram matrix failed")
 		}
@@ -286,7 +286,13 @@ func (d *data) impute(s resolved, p pcs, k int) (pcs, Imputation) {
 		scale = math.Sqrt(d.sumSquares())
 		info.Change = math.Sqrt(change) / scale
 		info.Iterations = it
-		p = truncate(d.decompose(s, k, 1, s.Seed+uint64(it), p.v), k)
+		if s.Method == Gram && min(t, n) <= gramLimit {
+			p = truncate(d.decompose(s, k, 0, 0, nil), k)
+		} else {
+			// One warm-started subspace step: no oversampling, no extra power iteration.
+			p = randomizedSVD(d.z, k, 0, 0, 0, p.v)
+		}
+
 		if info.Change < s.Tol {
 			info.Converged = true
 			break

@@ -63,10 +63,10 @@ type Imputation struct {
 
 // Specific reports how the specific variances were shrunk and floored.
 type Specific struct {
-	Groups    []string  // distinct group labels in order of first appearance; nil: one group
-	Shrink    []float64 // intensity used per group, in the order of Groups (one value when Groups is nil)
-	Floor     float64   // the floor applied
-	Floored   int       // number of assets raised to the floor
+	Groups  []string  // distinct group labels in order of first appearance; nil: one group
+	Shrink  []float64 // intensity used per group, in the order of Groups (one value when Groups is nil)
+	Floor   float64   // the floor applied
+	Floored int       // number of assets raised to the floor
 }
 
 // Alignment reports the rotation of the new factors onto the previous

@@ -11,18 +11,24 @@ import (
 type Method int
 
 const (
-	// Auto uses Gram when min(N, T) ≤ 300 and Randomized otherwise (default).
+	// Auto uses Gram when min(N, T) ≤ 300 or T·N ≤ 2²⁴ and Randomized
+	// otherwise (default): forming the Gram matrix takes two transient T×N
+	// copies, too much memory for the largest panels.
 	Auto Method = iota
 	// Randomized is the randomized truncated SVD of Halko, Martinsson & Tropp (2011).
 	Randomized
-	// Gram eigen-decomposes the smaller Gram matrix: the T×T one when N > T
-	// (Connor & Korajczyk 1986), exact and O(T·N·min(N, T) + min(N, T)³).
+	// Gram works on the smaller Gram matrix: the T×T one when N > T (Connor
+	// & Korajczyk 1986). It is eigen-decomposed exactly when min(N, T) ≤ 300,
+	// otherwise by seeded subspace iteration (PowerIters rounds).
 	Gram
 )
 
 // gramLimit is the largest min(N, T) for which Auto picks the exact Gram
 // route: its eigendecomposition costs about 0.1 s at 300 on this kind of machine.
 const gramLimit = 300
+
+// gramCells is the largest T·N for which Auto forms the Gram matrix.
+const gramCells = 1 << 24
 
 // String returns the method's name as recorded in Info.Method.
 func (m Method) String() string {
@@ -56,10 +62,10 @@ type Settings struct {
 	// PowerIters is the number of power iterations of the first randomized
 	// SVD; 0 means 4. Each impute–refit step uses one more, warm-started.
 	PowerIters int
-	// MaxIter caps the impute–refit iterations for missing data; 0 means 30.
+	// MaxIter caps the impute–refit iterations for missing data; 0 means 25.
 	MaxIter int
 	// Tol is the convergence threshold of the impute–refit iterations (see
-	// Fit); 0 means 1e-6.
+	// Fit); 0 means 1e-4.
 	Tol float64
 	// AssumeCentered skips subtracting each asset's mean return before the
 	// principal components.
@@ -129,7 +135,7 @@ func (s Settings) resolve(t, n int) (resolved, error) {
 	}
 	if s.Method == Auto {
 		r.Method = Randomized
-		if m <= gramLimit {
+		if m <= gramLimit || t*n <= gramCells {
 			r.Method = Gram
 		}
 	}
@@ -140,10 +146,10 @@ func (s Settings) resolve(t, n int) (resolved, error) {
 		r.PowerIters = 4
 	}
 	if r.MaxIter == 0 {
-		r.MaxIter = 30
+		r.MaxIter = 25
 	}
 	if r.Tol == 0 {
-		r.Tol = 1e-6
+		r.Tol = 1e-4
 	}
 	r.kmax = s.MaxFactors
 	if r.kmax == 0 {

@@ -78,11 +78,18 @@ func randomizedSVD(a *mat.Dense, r, over, iters int, seed uint64, start *mat.Den
 	return out
 }
 
-// gramSVD returns the leading r singular triplets of a, and every squared
-// singular value, from the eigendecomposition of the smaller Gram matrix:
-// A·Aᵀ (T×T) when N > T, the asymptotic principal components of Connor &
-// Korajczyk (1986), otherwise AᵀA (N×N). Cost O(T·N·min(T, N) + min(T, N)³).
-func gramSVD(a *mat.Dense, r int) (pcs, bool) {
+// gramSVD returns the leading r singular triplets of a, and squared
+// singular values, from the smaller Gram matrix G: A·Aᵀ (T×T) when N > T, the
+// asymptotic principal components of Connor & Korajczyk (1986), otherwise
+// AᵀA (N×N), formed by internal/dense on all cores. When G is at most
+// gramLimit on a side it is eigen-decomposed exactly (every squared singular
+// value is returned); otherwise the leading l = r + over eigenpairs come from
+// iters rounds of subspace iteration on G from a seeded Gaussian start with a
+// final Rayleigh–Ritz step (Halko, Martinsson & Tropp 2011, Algorithm 4.4
+// applied to G; each round on G counts as two power iterations on A). The
+// other side's singular vectors are A·v/σ or Aᵀ·u/σ. Cost O(T·N·min(T, N))
+// for G, plus O(min(T, N)³) exact or O(iters·min(T, N)²·l) subspace.
+func gramSVD(a *mat.Dense, r, over, iters int, seed uint64) (pcs, bool) {
 	t, n := a.Dims()
 	var g *mat.SymDense
 	if n > t {
@@ -90,26 +97,41 @@ func gramSVD(a *mat.Dense, r int) (pcs, bool) {
 	} else {
 		g = dense.XtWX(nil, a, nil)
 	}
-	var eig mat.EigenSym
-	if !eig.Factorize(g, true) {
-		return pcs{}, false
-	}
-	vals := eig.Values(nil)
-	var vecs mat.Dense
-	eig.VectorsTo(&vecs)
-	m := len(vals)
-	out := pcs{sq: make([]float64, m), s: make([]float64, r)}
-	for i := range out.sq {
-		out.sq[i] = math.Max(vals[m-1-i], 0) // descending
-	}
-	top := mat.NewDense(m, r, nil)
-	for j := 0; j < r; j++ {
-		out.s[j] = math.Sqrt(out.sq[j])
-		for i := 0; i < m; i++ {
-			top.Set(i, j, vecs.At(i, m-1-j))
+	m := g.SymmetricDim()
+	var vals []float64 // descending
+	var top *mat.Dense  // m×r
+	if m <= gramLimit {
+		var eig mat.EigenSym
+		if !eig.Factorize(g, true) {
+			return pcs{}, false
+		}
+		asc := eig.Values(nil)
+		var vecs mat.Dense
+		eig.VectorsTo(&vecs)
+		vals = make([]float64, m)
+		top = mat.NewDense(m, r, nil)
+		for i := range vals {
+			vals[i] = asc[m-1-i]
+		}
+		for j := 0; j < r; j++ {
+			for i := 0; i < m; i++ {
+				top.Set(i, j, vecs.At(i, m-1-j))
+			}
+		}
+	} else {
+		var ok bool
+		vals, top, ok = subspaceEig(g, r, over, iters, seed)
+		if !ok {
+			return pcs{}, false
 		}
 	}
-	// The other side's vectors are a·v/σ (or aᵀ·u/σ); σ > 0 is checked by the caller.
+	out := pcs{sq: make([]float64, len(vals)), s: make([]float64, r)}
+	for i, v := range vals {
+		out.sq[i] = math.Max(v, 0)
+	}
+	for j := 0; j < r; j++ {
+		out.s[j] = math.Sqrt(out.sq[j])
+	}
 	rows := t
 	if n > t {
 		rows = n
@@ -130,6 +152,53 @@ func gramSVD(a *mat.Dense, r int) (pcs, bool) {
 	}
 	fixSigns(out)
 	return out, true
+}
+
+// subspaceEig returns the leading l = r + over eigenvalues (descending) of
+// the symmetric positive semidefinite g and its leading r eigenvectors, by
+// subspace iteration with a Rayleigh–Ritz step.
+func subspaceEig(g *mat.SymDense, r, over, iters int, seed uint64) ([]float64, *mat.Dense, bool) {
+	m := g.SymmetricDim()
+	l := min(r+over, m)
+	q := mat.NewDense(m, l, nil)
+	gaussian(q, seed)
+	y := mat.NewDense(m, l, nil)
+	full := mat.NewDense(m, m, nil)
+	full.Copy(g) // a general copy so the product runs on gonum's parallel Dgemm
+	for i := 0; i <= iters; i++ {
+		y.Mul(full, q)
+		q, y = y, q
+		orthonormalize(q)
+	}
+	y.Mul(full, q)
+	h := mat.NewSymDense(l, nil)
+	var hq mat.Dense
+	hq.Mul(q.T(), y)
+	for i := 0; i < l; i++ {
+		for j := i; j < l; j++ {
+			h.SetSym(i, j, 0.5*(hq.At(i, j)+hq.At(j, i)))
+		}
+	}
+	var eig mat.EigenSym
+	if !eig.Factorize(h, true) {
+		return nil, nil, false
+	}
+	asc := eig.Values(nil)
+	var w mat.Dense
+	eig.VectorsTo(&w)
+	vals := make([]float64, l)
+	wr := mat.NewDense(l, r, nil)
+	for i := range vals {
+		vals[i] = asc[l-1-i]
+	}
+	for j := 0; j < r; j++ {
+		for i := 0; i < l; i++ {
+			wr.Set(i, j, w.At(i, l-1-j))
+		}
+	}
+	top := mat.NewDense(m, r, nil)
+	top.Mul(q, wr)
+	return vals, top, true
 }
 
 // fixSigns makes the largest-magnitude entry of each right singular vector
