@@ -2,7 +2,6 @@ package dense
 
 import (
 	"fmt"
-	"math/rand/v2"
 	"runtime"
 	"sync"
 	"testing"
@@ -15,12 +14,16 @@ import (
 // benchSizes are T×N: dates × assets.
 var benchSizes = []struct{ t, n int }{{250, 500}, {500, 1000}, {1000, 3000}}
 
+// benchMatrix returns the T×N matrix that testdata/bench_numpy.py builds
+// too, x_tj = 0.01·(((7919t + 104729j) mod 10007)/10007 − 0.5), so that the
+// reference timings multiply the same numbers.
 func benchMatrix(t, n int) *mat.Dense {
-	rng := rand.New(rand.NewPCG(uint64(t), uint64(n)))
 	x := mat.NewDense(t, n, nil)
-	raw := x.RawMatrix()
-	for i := range raw.Data {
-		raw.Data[i] = 0.01 * rng.NormFloat64()
+	for i := 0; i < t; i++ {
+		row := x.RawRowView(i)
+		for j := range row {
+			row[j] = 0.01 * (float64((i*7919+j*104729)%10007)/10007 - 0.5)
+		}
 	}
 	return x
 }

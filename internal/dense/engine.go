@@ -47,43 +47,63 @@ func (p *packed) sliver(k0, kk, i int) []float64 {
 }
 
 // pack copies the K×m operand into slivers r wide, one block of kc
-// reductions per task spread over the workers.
+// reductions per task spread over the workers. The buffer comes from a pool;
+// release returns it.
 func (op *operand) pack(k, m, r, workers int) *packed {
 	mpad := (m + r - 1) / r * r
-	p := &packed{buf: make([]float64, k*mpad), r: r, mpad: mpad}
+	p := &packed{buf: getBuf(k * mpad), r: r, mpad: mpad}
 	blocks := (k + kc - 1) / kc
 	parallel(blocks, workers, func(b int) {
 		k0 := b * kc
 		kk := min(kc, k-k0)
-		for i := 0; i < m; i += r {
-			op.packSliver(p.sliver(k0, kk, i), k0, kk, i, min(r, m-i), r)
+		if op.trans {
+			for i := 0; i < m; i += r {
+				op.packTrans(p.sliver(k0, kk, i), k0, kk, i, min(r, m-i), r)
+			}
+			return
+		}
+		for k := k0; k < k0+kk; k++ {
+			op.packRow(p.buf[k0*mpad+(k-k0)*r:], k, kk, m, r)
 		}
 	})
 	return p
 }
 
-// packSliver writes P(k0..k0+kk, i0..i0+w) into dst (kk×r, zero padded).
-func (op *operand) packSliver(dst []float64, k0, kk, i0, w, r int) {
-	if !op.trans {
-		for k := 0; k < kk; k++ {
-			src := op.data[(k0+k)*op.stride+i0:][:w]
-			row := dst[k*r : k*r+r]
-			copy(row, src)
-			clear(row[w:])
-			if op.kw != nil {
-				s := op.kw[k0+k]
-				for j := range src {
-					row[j] *= s
-				}
+// packRow spreads row k of a non-transposed P over the slivers of its
+// block, whose first sliver starts at dst: index i goes to sliver i/r at
+// offset (i/r)·kk·r + i%r.
+func (op *operand) packRow(dst []float64, k, kk, m, r int) {
+	src := op.data[k*op.stride:][:m]
+	s := 1.0
+	if op.kw != nil {
+		s = op.kw[k]
+	}
+	step := kk * r
+	for i0 := 0; i0 < m; i0 += r {
+		d := dst[(i0/r)*step:][:r]
+		w := min(r, m-i0)
+		seg := src[i0 : i0+w]
+		switch {
+		case op.iw != nil:
+			for j, v := range seg {
+				d[j] = v * s * op.iw[i0+j]
 			}
-			if op.iw != nil {
-				for j, s := range op.iw[i0 : i0+w] {
-					row[j] *= s
-				}
+		case op.kw != nil:
+			for j, v := range seg {
+				d[j] = v * s
+			}
+		default:
+			for j, v := range seg {
+				d[j] = v
 			}
 		}
-		return
+		clear(d[w:])
 	}
+}
+
+// packTrans writes P(k0..k0+kk, i0..i0+w) of a transposed P into dst
+// (kk×r, zero padded), reading x row by row.
+func (op *operand) packTrans(dst []float64, k0, kk, i0, w, r int) {
 	if w < r {
 		clear(dst)
 	}
@@ -110,6 +130,25 @@ func (op *operand) packSliver(dst []float64, k0, kk, i0, w, r int) {
 	}
 }
 
+// bufs recycles packing buffers between calls: the estimators call the
+// products repeatedly on same-sized data, and a fresh buffer of many
+// megabytes costs more to fault in and clear than to reuse.
+var bufs sync.Pool
+
+func getBuf(n int) []float64 {
+	if b, ok := bufs.Get().(*[]float64); ok && cap(*b) >= n {
+		return (*b)[:n]
+	}
+	return make([]float64, n)
+}
+
+func (p *packed) release() {
+	if p != nil {
+		b := p.buf[:0]
+		bufs.Put(&b)
+	}
+}
+
 // product sets the m×n matrix C, row-major in c with stride ldc, to PᵀQ,
 // where P is k×m and Q is k×n. With upper set (m == n), only the elements
 // with i ≤ j are written: the rest of c is left untouched.
@@ -133,7 +172,9 @@ func product(c []float64, ldc, m, n, k int, p, q *operand, upper bool, kern kern
 			qp = pp
 		} else {
 			qp = q.pack(k, n, kern.nr, workers)
+			defer qp.release()
 		}
+		defer pp.release()
 	}
 	parallel(len(tasks), workers, func(t int) {
 		tk := tasks[t]
