@@ -12,7 +12,8 @@ import (
 // Annualized. Slices indexed by asset have length N, in the model's order;
 // Factors has length K.
 //
-// When the tracking error is zero (the portfolio equals the benchmark) every
+// A Decomposition is made by DecomposeTo; its Groups methods need the
+// Analyzer that made it. When the tracking error is zero (the portfolio equals the benchmark) every
 // contribution, marginal contribution, percent and correlation is 0, not
 // NaN.
 type Decomposition struct {
@@ -87,8 +88,8 @@ func (a *Analyzer) Decompose(portfolio, benchmark []float64) (*Decomposition, er
 // DecomposeTo sets dst to the decomposition of the tracking error of
 // portfolio against benchmark (both in the model's asset order) and returns
 // it. A nil dst is allocated; a non-nil one is reused, its slices kept when
-// they have the capacity, so repeated calls do not allocate. The inputs are
-// not modified. With a = p − b, x = Bᵀa:
+// they have the capacity, so repeated calls do not allocate (on error its
+// contents are unspecified). The inputs are not modified. With a = p − b, x = Bᵀa:
 //
 //	TE² = aᵀΣa = xᵀFx + aᵀDa
 //	marginal_i = (Σa)_i / TE,   contribution_i = a_i (Σa)_i / TE
@@ -101,13 +102,13 @@ func (a *Analyzer) Decompose(portfolio, benchmark []float64) (*Decomposition, er
 // length N. It returns an *InputError wrapping ErrNonFinite for a non-finite
 // weight (naming the vector and index), ErrEmpty if the portfolio holds
 // nothing (all weights zero), and an *InputError wrapping ErrNotPSD if aᵀΣa
-// is clearly negative. Cost O(N·K + K²) in factor form, O(N²) dense (two
-// matrix-vector products: Σa and Σb).
+// is clearly negative. Cost O(N·K + K²) in factor form, O(N²) dense (Σa and Σb
+// in one pass over Σ).
 //
 // References:
 //
 // Litterman, R. (1996). Hot spots and hedges. Journal of Portfolio
-// Management, special issue, 52–75.
+// Management, special issue (issue and pages not verified here).
 //
 // Menchero, J. & Davis, B. (2011). Risk contribution is exposure times
 // volatility times correlation. Journal of Portfolio Management 37(2), 97–106.

@@ -16,7 +16,7 @@ import (
 // References:
 //
 // Litterman, R. (1996). Hot spots and hedges. Journal of Portfolio
-// Management, special issue, 52–75.
+// Management, special issue (issue and pages not verified here).
 func (d *Decomposition) HotSpots(n int) []int {
 	n = min(n, len(d.Contribution))
 	if n <= 0 {
