@@ -6,7 +6,6 @@ import (
 	"math"
 	"math/rand/v2"
 	"slices"
-	"strconv"
 )
 
 // Size buckets of the demo, by rank of market cap.
@@ -57,7 +56,7 @@ func (d *Demo) assetInfo(st structure) []AssetInfo {
 			Attributes: map[string]string{
 				"sector":      sector,
 				"size_bucket": bucket[j],
-				"market_cap":  strconv.FormatFloat(caps[j], 'f', -1, 64),
+				"market_cap":  formatFloat(caps[j]),
 			},
 		}
 	}
