@@ -39,3 +39,8 @@ func (e *DataError) Error() string {
 }
 
 func (e *DataError) Unwrap() error { return e.Err }
+
+// ErrRankDeficient reports a sample covariance with fewer positive
+// eigenvalues than min(N, T−1) (duplicated or constant assets), which
+// nonlinear shrinkage cannot handle.
+var ErrRankDeficient = errors.New("shrink: sample covariance is rank deficient")
