@@ -165,6 +165,25 @@ func (cfg *DemoConfig) resolve() (DemoConfig, error) {
 	return c, nil
 }
 
+// explicit returns the resolved configuration c with every switched-off
+// feature marked negative, so that GenerateDemo(&c) draws the same demo again.
+func (c DemoConfig) explicit() DemoConfig {
+	if c.Stationary {
+		return c
+	}
+	for _, v := range []*int{&c.Halts, &c.StaleRuns, &c.Outliers, &c.StressLength} {
+		if *v == 0 {
+			*v = -1
+		}
+	}
+	for _, v := range []*float64{&c.LateListings, &c.EarlyDelistings} {
+		if *v == 0 {
+			*v = -1
+		}
+	}
+	return c
+}
+
 func orDefault(v, def int) int {
 	if v == 0 {
 		return def
@@ -217,7 +236,8 @@ type Demo struct {
 	// [StressStart, StressEnd); they are equal when there is none.
 	StressStart, StressEnd int
 
-	// Config is the configuration used, with defaults filled in.
+	// Config is the configuration used, with defaults filled in and
+	// switched-off features negative: GenerateDemo(&d.Config) gives d again.
 	Config DemoConfig
 
 	b    *mat.Dense    // N×K exposures

@@ -75,7 +75,7 @@ func GenerateDemo(cfg *DemoConfig) (*Demo, error) {
 	}
 	n, t, s := c.Assets, c.Dates, c.Sectors
 	d := &Demo{
-		Config:      c,
+		Config:      c.explicit(),
 		SectorNames: demoSectorNames(s),
 		StyleNames:  append([]string(nil), demoStyleNames...),
 		StressStart: c.StressStart,

@@ -77,6 +77,13 @@ func TestGenerateDemoDeterministic(t *testing.T) {
 	for _, ev := range e.Events {
 		require.NotEqual(t, DemoHalt, ev.Kind)
 	}
+
+	// The recorded configuration reproduces the demo.
+	again, err := GenerateDemo(&e.Config)
+	require.NoError(t, err)
+	requireDemoPanel(t, e.Panel, again.Panel)
+	require.Equal(t, e.Config, again.Config)
+	require.Equal(t, -1, e.Config.Halts)
 }
 
 // requireDemoPanel checks two panels cell by cell, NaN matching NaN, and
