@@ -1,0 +1,367 @@
+package riskmodel
+
+import (
+	"errors"
+	"fmt"
+	"math"
+	"slices"
+	"strconv"
+
+	"gonum.org/v1/gonum/mat"
+
+	"github.com/riskmodel/riskmodel/ewma"
+	"github.com/riskmodel/riskmodel/factor"
+	"github.com/riskmodel/riskmodel/shrink"
+)
+
+// The estimators Build can run, by the names the programs use.
+const (
+	MethodFactor              = "factor"               // statistical factor model (package factor)
+	MethodSample              = "sample"               // equally weighted sample covariance, pairwise
+	MethodEWMA                = "ewma"                 // exponentially weighted, separate half-lives (package ewma)
+	MethodLedoitWolf          = "ledoit-wolf"          // toward a scaled identity (Ledoit & Wolf 2004)
+	MethodOAS                 = "oas"                  // oracle approximating shrinkage (Chen et al. 2010)
+	MethodConstantCorrelation = "constant-correlation" // toward constant correlation (Ledoit & Wolf 2004)
+	MethodSingleIndex         = "single-index"         // toward a one-factor market model (Ledoit & Wolf 2003)
+	MethodSchaferStrimmer     = "schafer-strimmer"     // correlations and variances shrunk separately
+	MethodNonlinear           = "nonlinear"            // analytical nonlinear shrinkage (Ledoit & Wolf 2020)
+)
+
+// Methods lists every method name Build accepts, the default first.
+var Methods = []string{
+	MethodFactor, MethodSample, MethodEWMA, MethodLedoitWolf, MethodOAS,
+	MethodConstantCorrelation, MethodSingleIndex, MethodSchaferStrimmer, MethodNonlinear,
+}
+
+// Defaults of BuildOptions. The half-lives are common practice for daily
+// equity risk (volatility reacting within a quarter, correlations over about
+// half a year), no single source.
+const (
+	DefaultWindow       = 504 // two years of daily dates
+	DefaultVolHalfLife  = 63
+	DefaultCorrHalfLife = 126
+)
+
+// BuildOptions configure Build. A nil *BuildOptions, or a zero field, means
+// the documented default.
+type BuildOptions struct {
+	Method string // one of Methods; default MethodFactor
+	Window int    // number of dates of history up to the as-of date; default DefaultWindow
+	// MinObs drops assets with fewer observations in the window; default
+	// half the window's dates. Dropped assets are listed in the report.
+	MinObs int
+
+	// VolHalfLife and CorrHalfLife, in periods, set the exponential weights of
+	// the ewma method and of the factor model's factor covariance; defaults
+	// DefaultVolHalfLife and DefaultCorrHalfLife.
+	VolHalfLife, CorrHalfLife float64
+	// SpecificHalfLife weights the factor model's residual variances;
+	// default VolHalfLife.
+	SpecificHalfLife float64
+	// NeweyWestLags adjusts the ewma and factor covariances for serial
+	// correlation: 0 none, n > 0 lags, ewma.AutoLags the automatic rule.
+	NeweyWestLags int
+	// ShrinkHalfLife, if positive, weights the observations of the shrinkage
+	// estimators (ledoit-wolf … nonlinear) exponentially with this half-life;
+	// zero means equal weights, the estimators' published form.
+	ShrinkHalfLife float64
+
+	// Factors fixes the number of factors; 0 chooses it by Bai & Ng's IC_p2.
+	Factors    int
+	MaxFactors int    // the largest number the criteria consider; 0: package factor's default
+	Seed       uint64 // seed of the randomized principal components
+	// Groups maps an asset to its group (sector, size bucket) for the
+	// shrinkage of the factor model's specific variances; nil: one group.
+	Groups map[string]string
+	// Previous, if set, is the previous model whose factors the new ones are
+	// rotated onto, so that factors keep their order and sign.
+	Previous *Model
+}
+
+// BuildReport says what Build did to the data and the estimate.
+type BuildReport struct {
+	Method     string
+	AsOf       Date
+	Start, End Date       // first and last date of the window
+	Dates      int        // dates in the window
+	Assets     int        // assets in the model
+	Dropped    []Coverage // assets dropped for too few observations, with their coverage
+	Missing    int        // missing cells of the window's returns for the kept assets
+	Imputed    int        // missing cells filled with the asset's window mean (shrinkage methods)
+	Notes      []string   // the same facts as the model's Notes
+}
+
+// ErrMethod reports an unknown method name.
+var ErrMethod = errors.New("unknown method")
+
+// Build estimates a risk model from the panel's returns up to and including
+// asof: it takes the last Window dates, drops assets with fewer than MinObs
+// observations, runs the chosen estimator and returns the model with its
+// report. Every number is per period.
+//
+// Missing data: the factor, sample and ewma methods handle missing returns
+// themselves (imputation by iterated factor fits; pairwise moments with a
+// reported PSD repair). The shrinkage estimators need complete data: a
+// missing return is filled with its asset's mean over the window, which keeps
+// the mean and shrinks that asset's variance by the share of missing dates;
+// the number filled is reported.
+func Build(p *Panel, asof Date, opts *BuildOptions) (*Model, *BuildReport, error) {
+	o := withBuildDefaults(opts)
+	if !slices.Contains(Methods, o.Method) {
+		return nil, nil, fmt.Errorf("riskmodel: build: %w %q (one of %v)", ErrMethod, o.Method, Methods)
+	}
+	win, err := p.Window(asof, o.Window)
+	if err != nil {
+		return nil, nil, fmt.Errorf("riskmodel: build: %w", err)
+	}
+	minObs := o.MinObs
+	if minObs == 0 {
+		minObs = max(2, len(win.dates)/2)
+	}
+	win, dropped := win.DropSparse(minObs)
+	t, n := win.Dims()
+	if t < 2 || n < 1 {
+		return nil, nil, fmt.Errorf("riskmodel: build: %w: %d dates and %d assets with at least %d observations up to %s",
+			ErrEmpty, t, n, minObs, asof)
+	}
+	rep := &BuildReport{
+		Method: o.Method, AsOf: asof, Start: win.dates[0], End: win.dates[t-1],
+		Dates: t, Assets: n, Dropped: dropped, Missing: countNaN(win.r),
+	}
+	if len(dropped) > 0 {
+		rep.Notes = append(rep.Notes, fmt.Sprintf("%d assets dropped for fewer than %d observations in the window", len(dropped), minObs))
+	}
+	m := &Model{
+		AsOf:           asof,
+		Assets:         win.Assets(),
+		PeriodsPerYear: p.PeriodsPerYear(),
+		Method:         o.Method,
+		Settings:       o.settings(),
+	}
+	switch o.Method {
+	case MethodFactor:
+		err = buildFactor(m, win, o, rep)
+	case MethodSample, MethodEWMA:
+		err = buildEWMA(m, win, o, rep)
+	default:
+		err = buildShrink(m, win, o, rep)
+	}
+	if err != nil {
+		return nil, nil, fmt.Errorf("riskmodel: build %s: %w", o.Method, err)
+	}
+	m.Notes = rep.Notes
+	return m, rep, nil
+}
+
+func withBuildDefaults(opts *BuildOptions) BuildOptions {
+	var o BuildOptions
+	if opts != nil {
+		o = *opts
+	}
+	if o.Method == "" {
+		o.Method = MethodFactor
+	}
+	if o.Window == 0 {
+		o.Window = DefaultWindow
+	}
+	if o.VolHalfLife == 0 {
+		o.VolHalfLife = DefaultVolHalfLife
+	}
+	if o.CorrHalfLife == 0 {
+		o.CorrHalfLife = DefaultCorrHalfLife
+	}
+	if o.SpecificHalfLife == 0 {
+		o.SpecificHalfLife = o.VolHalfLife
+	}
+	return o
+}
+
+// settings records the options that matter for the method, in words.
+func (o BuildOptions) settings() map[string]string {
+	f := func(v float64) string { return strconv.FormatFloat(v, 'g', -1, 64) }
+	s := map[string]string{"window": strconv.Itoa(o.Window)}
+	switch o.Method {
+	case MethodFactor:
+		s["vol_half_life"] = f(o.VolHalfLife)
+		s["corr_half_life"] = f(o.CorrHalfLife)
+		s["specific_half_life"] = f(o.SpecificHalfLife)
+		s["newey_west_lags"] = strconv.Itoa(o.NeweyWestLags)
+		s["factors"] = strconv.Itoa(o.Factors)
+		s["seed"] = strconv.FormatUint(o.Seed, 10)
+	case MethodEWMA:
+		s["vol_half_life"] = f(o.VolHalfLife)
+		s["corr_half_life"] = f(o.CorrHalfLife)
+		s["newey_west_lags"] = strconv.Itoa(o.NeweyWestLags)
+	case MethodSample:
+	default:
+		if o.ShrinkHalfLife > 0 {
+			s["shrink_half_life"] = f(o.ShrinkHalfLife)
+		}
+	}
+	return s
+}
+
+func buildFactor(m *Model, win *Panel, o BuildOptions, rep *BuildReport) error {
+	s := factor.Settings{
+		K:                o.Factors,
+		MaxFactors:       o.MaxFactors,
+		Seed:             o.Seed,
+		Covariance:       ewma.Settings{VolHalfLife: o.VolHalfLife, CorrHalfLife: o.CorrHalfLife, NeweyWestLags: o.NeweyWestLags},
+		SpecificHalfLife: o.SpecificHalfLife,
+		Assets:           m.Assets,
+	}
+	if o.Groups != nil {
+		s.Groups = make([]string, len(m.Assets))
+		for i, a := range m.Assets {
+			s.Groups[i] = o.Groups[a]
+		}
+	}
+	if prev := o.Previous; prev != nil && prev.Factor != nil {
+		s.Previous = prev.Factor
+		s.PreviousIndex = make([]int, len(m.Assets))
+		pos := make(map[string]int, len(prev.Assets))
+		for i, a := range prev.Assets {
+			pos[a] = i
+		}
+		for i, a := range m.Assets {
+			if j, ok := pos[a]; ok {
+				s.PreviousIndex[i] = j
+			} else {
+				s.PreviousIndex[i] = -1
+			}
+		}
+	}
+	f, err := factor.Fit(win.r, s)
+	if err != nil {
+		return err
+	}
+	info := f.Info()
+	rep.Notes = append(rep.Notes, fmt.Sprintf("%d factors: %s", f.NumFactors(), info.Reason))
+	if im := info.Imputation; im.Missing > 0 {
+		state := "converged"
+		if !im.Converged {
+			state = "did not converge"
+		}
+		rep.Notes = append(rep.Notes, fmt.Sprintf("%d missing returns imputed by %d factor refits (%s, last change %.2g)",
+			im.Missing, im.Iterations, state, im.Change))
+	}
+	if sp := info.Specific; sp.Floored > 0 {
+		rep.Notes = append(rep.Notes, fmt.Sprintf("%d specific variances raised to the floor %.3g", sp.Floored, sp.Floor))
+	}
+	m.Factor = f
+	return nil
+}
+
+func buildEWMA(m *Model, win *Panel, o BuildOptions, rep *BuildReport) error {
+	dst := mat.NewSymDense(len(m.Assets), nil)
+	var r *ewma.Report
+	var err error
+	if o.Method == MethodSample {
+		// Equal weights with the mean removed: the sample covariance with the
+		// divisor T, pairwise over missing data.
+		r, err = ewma.CovarianceTo(dst, win.r, nil, &ewma.Options{Demean: true})
+	} else {
+		r, err = ewma.Estimate(dst, win.r, ewma.Settings{
+			VolHalfLife: o.VolHalfLife, CorrHalfLife: o.CorrHalfLife, NeweyWestLags: o.NeweyWestLags,
+		})
+	}
+	if err != nil {
+		return err
+	}
+	if r.Repair != nil {
+		rep.Notes = append(rep.Notes, fmt.Sprintf("pairwise estimate repaired to be positive semidefinite: %+v", *r.Repair))
+	}
+	m.Dense = dst
+	return nil
+}
+
+func buildShrink(m *Model, win *Panel, o BuildOptions, rep *BuildReport) error {
+	x := win.ReturnsTo(nil)
+	rep.Imputed = fillMeans(x)
+	if rep.Imputed > 0 {
+		rep.Notes = append(rep.Notes, fmt.Sprintf("%d missing returns filled with their asset's window mean", rep.Imputed))
+	}
+	var w []float64
+	if o.ShrinkHalfLife > 0 {
+		var err error
+		if w, err = ewma.Weights(nil, len(win.dates), o.ShrinkHalfLife); err != nil {
+			return err
+		}
+	}
+	dst := mat.NewSymDense(len(m.Assets), nil)
+	var note string
+	var err error
+	switch o.Method {
+	case MethodLedoitWolf:
+		var r shrink.LinearResult
+		_, r, err = shrink.LedoitWolf(dst, x, w)
+		note = fmt.Sprintf("shrinkage intensity %.4f toward %.4g·I", r.Intensity, r.Mu)
+	case MethodOAS:
+		var r shrink.LinearResult
+		_, r, err = shrink.OAS(dst, x, w)
+		note = fmt.Sprintf("shrinkage intensity %.4f toward %.4g·I", r.Intensity, r.Mu)
+	case MethodConstantCorrelation:
+		var r shrink.TargetResult
+		_, r, err = shrink.ConstantCorrelation(dst, x, w)
+		note = fmt.Sprintf("shrinkage intensity %.4f toward constant correlation %.4f", r.Intensity, r.MeanCorr)
+	case MethodSingleIndex:
+		var r shrink.TargetResult
+		_, r, err = shrink.SingleIndex(dst, x, w)
+		note = fmt.Sprintf("shrinkage intensity %.4f toward the single-index model", r.Intensity)
+	case MethodSchaferStrimmer:
+		var r shrink.SchaferResult
+		_, r, err = shrink.SchaferStrimmer(dst, x, w)
+		note = fmt.Sprintf("correlation shrinkage %.4f, variance shrinkage %.4f", r.Lambda, r.LambdaVar)
+	case MethodNonlinear:
+		_, _, err = shrink.Nonlinear(dst, x, w)
+		note = "analytical nonlinear shrinkage of the eigenvalues"
+	}
+	if err != nil {
+		return err
+	}
+	rep.Notes = append(rep.Notes, note)
+	m.Dense = dst
+	return nil
+}
+
+// fillMeans replaces each NaN of x by the mean of the observed values of its
+// column and returns how many it replaced. A column with no observation is
+// filled with 0.
+func fillMeans(x *mat.Dense) int {
+	t, n := x.Dims()
+	filled := 0
+	for j := 0; j < n; j++ {
+		var sum float64
+		var cnt int
+		for i := 0; i < t; i++ {
+			if v := x.At(i, j); !math.IsNaN(v) {
+				sum += v
+				cnt++
+			}
+		}
+		mean := 0.0
+		if cnt > 0 {
+			mean = sum / float64(cnt)
+		}
+		for i := 0; i < t; i++ {
+			if math.IsNaN(x.At(i, j)) {
+				x.Set(i, j, mean)
+				filled++
+			}
+		}
+	}
+	return filled
+}
+
+func countNaN(x *mat.Dense) int {
+	if x == nil {
+		return 0
+	}
+	c := 0
+	for _, v := range x.RawMatrix().Data {
+		if math.IsNaN(v) {
+			c++
+		}
+	}
+	return c
+}

@@ -1,0 +1,298 @@
+package riskmodel
+
+import (
+	"fmt"
+	"math"
+
+	"gonum.org/v1/gonum/blas/blas64"
+	"gonum.org/v1/gonum/mat"
+)
+
+// DefaultMaxCondition is the condition number above which Validate reports a
+// model as ill-conditioned for an optimizer (common practice, no source: a
+// covariance whose condition number passes 1e8 loses half the digits of a
+// double in a solve).
+const DefaultMaxCondition = 1e8
+
+// ValidateOptions configure Validate. A nil *ValidateOptions or a zero field
+// means the documented default.
+type ValidateOptions struct {
+	// Universe lists assets the model must cover; nil skips the check.
+	Universe []string
+	// MaxCondition is the largest acceptable condition number; default
+	// DefaultMaxCondition.
+	MaxCondition float64
+	// Returns, if set, holds realised returns (a trailing window) for the bias
+	// statistic of the Portfolio's forecast.
+	Returns *Panel
+	// Portfolio maps assets to the weights of the test portfolio of the bias
+	// statistic; nil means equal weights over the model's assets.
+	Portfolio map[string]float64
+}
+
+// Validation is the result of Validate. Problems lists, in words, every
+// check that failed; a model with no problems is safe to publish.
+type Validation struct {
+	Finite    bool
+	Symmetric bool
+	// PositiveDefinite is true when the smallest eigenvalue is positive (a
+	// Cholesky factorization succeeded for a dense model; D > 0 and F
+	// positive semidefinite for a factor model).
+	PositiveDefinite bool
+	// MinEigenvalue and MaxEigenvalue are the extreme eigenvalues, found by
+	// inverse and direct power iteration (to about 1e-4 relative: they
+	// are diagnostics, not exact values), and
+	// Condition their ratio.
+	MinEigenvalue, MaxEigenvalue, Condition float64
+	Uncovered                               []string // Universe assets missing from the model
+	Bias                                    *Bias    // nil without Returns
+	Problems                                []string
+}
+
+// OK reports whether every check passed.
+func (v *Validation) OK() bool { return len(v.Problems) == 0 }
+
+// Bias is the bias statistic of a forecast: the standard deviation of the
+// test portfolio's realised returns divided by its forecast volatility. It is
+// near 1 for a good forecast; the approximate 95 % band 1 ± √(2/T) over T
+// observations is common practice, no single source. Validate computes it on
+// the trailing window the caller passes, which usually overlaps the dates the
+// model was fitted on, so it is an in-sample sanity check.
+type Bias struct {
+	Observations int
+	Value        float64
+	Lower, Upper float64
+	Inside       bool
+}
+
+// Validate checks that a model is fit to hand to an optimizer: finite,
+// symmetric, positive definite, with a condition number below the maximum,
+// covering the universe, and with a plausible bias statistic when returns
+// are given. Cost: O(N²) per power iteration and one Cholesky (O(N³)) for a
+// dense model; O(N·K) per iteration for a factor model.
+func Validate(m *Model, opts *ValidateOptions) *Validation {
+	var o ValidateOptions
+	if opts != nil {
+		o = *opts
+	}
+	if o.MaxCondition == 0 {
+		o.MaxCondition = DefaultMaxCondition
+	}
+	v := &Validation{Finite: true, Symmetric: true}
+	problem := func(format string, args ...any) { v.Problems = append(v.Problems, fmt.Sprintf(format, args...)) }
+	if err := m.check(); err != nil {
+		problem("%v", err)
+		return v
+	}
+	n := len(m.Assets)
+	var mul func(dst, x []float64)
+	var solve func(dst, x []float64) bool
+	if f := m.Factor; f != nil {
+		// NewModel has already checked finiteness, F ⪰ 0 and D > 0, and a
+		// factor model is symmetric by construction.
+		v.PositiveDefinite = true
+		mul = func(dst, x []float64) { f.MulVecTo(dst, x) }
+		solve = func(dst, x []float64) bool { f.SolveVecTo(dst, x); return true }
+	} else {
+		s := m.Dense
+		raw := s.RawSymmetric()
+		for i := 0; i < n && v.Finite; i++ {
+			for _, x := range raw.Data[i*raw.Stride+i : i*raw.Stride+n] {
+				if math.IsNaN(x) || math.IsInf(x, 0) {
+					v.Finite = false
+					break
+				}
+			}
+		}
+		if !v.Finite {
+			problem("the covariance has a non-finite element")
+			return v
+		}
+		// A SymDense stores one triangle, so it is symmetric by construction;
+		// check the diagonal, which must be a variance.
+		for i := 0; i < n; i++ {
+			if s.At(i, i) < 0 {
+				problem("asset %s has a negative variance %g", m.Assets[i], s.At(i, i))
+				break
+			}
+		}
+		var chol mat.Cholesky
+		v.PositiveDefinite = chol.Factorize(s)
+		mul = func(dst, x []float64) {
+			blas64.Symv(1, raw, blas64.Vector{N: n, Inc: 1, Data: x}, 0, blas64.Vector{N: n, Inc: 1, Data: dst})
+		}
+		solve = func(dst, x []float64) bool {
+			var out mat.VecDense
+			if err := chol.SolveVecTo(&out, mat.NewVecDense(n, x)); err != nil {
+				return false
+			}
+			copy(dst, out.RawVector().Data)
+			return true
+		}
+	}
+	v.MaxEigenvalue = powerIteration(n, mul)
+	if v.PositiveDefinite {
+		inv := powerIteration(n, func(dst, x []float64) {
+			if !solve(dst, x) {
+				clear(dst)
+			}
+		})
+		if inv > 0 {
+			v.MinEigenvalue = 1 / inv
+		}
+	}
+	if !v.PositiveDefinite || !(v.MinEigenvalue > 0) {
+		problem("the covariance is not positive definite")
+		v.Condition = math.Inf(1)
+	} else {
+		v.Condition = v.MaxEigenvalue / v.MinEigenvalue
+		if v.Condition > o.MaxCondition {
+			problem("condition number %.3g is above the maximum %.3g", v.Condition, o.MaxCondition)
+		}
+	}
+	if o.Universe != nil {
+		have := make(map[string]bool, n)
+		for _, a := range m.Assets {
+			have[a] = true
+		}
+		for _, a := range o.Universe {
+			if !have[a] {
+				v.Uncovered = append(v.Uncovered, a)
+			}
+		}
+		if len(v.Uncovered) > 0 {
+			problem("%d universe assets are not covered, first %s", len(v.Uncovered), v.Uncovered[0])
+		}
+	}
+	if o.Returns != nil {
+		b, err := BiasStatistic(m, o.Returns, o.Portfolio)
+		if err != nil {
+			problem("bias statistic: %v", err)
+		} else {
+			v.Bias = b
+			if !b.Inside {
+				problem("bias statistic %.3f is outside the band [%.3f, %.3f]", b.Value, b.Lower, b.Upper)
+			}
+		}
+	}
+	return v
+}
+
+// BiasStatistic computes the bias statistic of the model's forecast for a
+// portfolio (nil: equal weights over the model's assets) over the returns of
+// r. Assets of the portfolio that r lacks, and missing returns, count as a
+// zero return on that date. The portfolio's assets must all be in the model.
+func BiasStatistic(m *Model, r *Panel, portfolio map[string]float64) (*Bias, error) {
+	n := len(m.Assets)
+	w := make([]float64, n)
+	if portfolio == nil {
+		for i := range w {
+			w[i] = 1 / float64(n)
+		}
+	} else {
+		pos := make(map[string]int, n)
+		for i, a := range m.Assets {
+			pos[a] = i
+		}
+		for a, x := range portfolio {
+			i, ok := pos[a]
+			if !ok {
+				return nil, fmt.Errorf("portfolio asset %s is not in the model", a)
+			}
+			w[i] = x
+		}
+	}
+	sigma := math.Sqrt(quadForm(m, w))
+	if !(sigma > 0) {
+		return nil, fmt.Errorf("the portfolio's forecast volatility is %g", sigma)
+	}
+	t, _ := r.Dims()
+	if t < 2 {
+		return nil, fmt.Errorf("%w: %d dates of returns", ErrEmpty, t)
+	}
+	cols := make([]int, n)
+	for i, a := range m.Assets {
+		j, ok := r.Column(a)
+		if !ok {
+			j = -1
+		}
+		cols[i] = j
+	}
+	z := make([]float64, t)
+	for d := 0; d < t; d++ {
+		var ret float64
+		for i, j := range cols {
+			if j >= 0 {
+				if x := r.At(d, j); !math.IsNaN(x) {
+					ret += w[i] * x
+				}
+			}
+		}
+		z[d] = ret / sigma
+	}
+	var mean, ss float64
+	for _, x := range z {
+		mean += x
+	}
+	mean /= float64(t)
+	for _, x := range z {
+		ss += (x - mean) * (x - mean)
+	}
+	b := &Bias{Observations: t, Value: math.Sqrt(ss / float64(t-1))}
+	half := math.Sqrt(2 / float64(t))
+	b.Lower, b.Upper = 1-half, 1+half
+	b.Inside = b.Value >= b.Lower && b.Value <= b.Upper
+	return b, nil
+}
+
+// quadForm returns wᵀΣw for the model's covariance.
+func quadForm(m *Model, w []float64) float64 {
+	if m.Factor != nil {
+		return m.Factor.QuadForm(w)
+	}
+	x := mat.NewVecDense(len(w), w)
+	return mat.Inner(x, m.Dense, x)
+}
+
+// powerIteration returns the largest eigenvalue of the symmetric positive
+// semidefinite operator mul by the power method from a fixed start, stopping
+// when the Rayleigh quotient changes by less than 1e-9 relative.
+func powerIteration(n int, mul func(dst, x []float64)) float64 {
+	x := make([]float64, n)
+	y := make([]float64, n)
+	for i := range x {
+		// A fixed start with weight on every direction, so the result is
+		// deterministic.
+		x[i] = 1 + 0.5*math.Sin(float64(i+1))
+	}
+	normalize(x)
+	var lambda float64
+	for it := 0; it < 500; it++ {
+		mul(y, x)
+		next := blas64.Dot(blas64.Vector{N: n, Inc: 1, Data: x}, blas64.Vector{N: n, Inc: 1, Data: y})
+		if normalize(y) == 0 {
+			return 0
+		}
+		x, y = y, x
+		if it > 2 && math.Abs(next-lambda) <= 1e-9*math.Abs(next) {
+			return next
+		}
+		lambda = next
+	}
+	return lambda
+}
+
+func normalize(x []float64) float64 {
+	var s float64
+	for _, v := range x {
+		s += v * v
+	}
+	s = math.Sqrt(s)
+	if s == 0 {
+		return 0
+	}
+	for i := range x {
+		x[i] /= s
+	}
+	return s
+}
