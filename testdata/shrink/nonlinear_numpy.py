@@ -30,7 +30,6 @@ def analytical_shrinkage(x):
     lam, u = np.linalg.eigh(s)  # ascending
     lam = lam[max(0, p - n):]
     m = lam.size
-    h = n ** (-1 / 3)
     # The kernel sums are evaluated in mpmath at 40 digits: in float64 the
     # two terms of the Hilbert transform cancel for |x| >> 1 and lose up to
     # x^2 of precision when the spectrum is wide.
