@@ -33,10 +33,17 @@ func newSample(x mat.Matrix, w []float64, minObs int) (*sample, error) {
 	}
 	y := mat.NewDense(t, n, nil)
 	raw := y.RawMatrix()
+	xd, isDense := x.(*mat.Dense)
 	for i := 0; i < t; i++ {
 		row := raw.Data[i*raw.Stride : i*raw.Stride+n]
+		if isDense {
+			copy(row, xd.RawRowView(i))
+		}
 		for j := range row {
-			v := x.At(i, j)
+			v := row[j]
+			if !isDense {
+				v = x.At(i, j)
+			}
 			if math.IsNaN(v) || math.IsInf(v, 0) {
 				return nil, &DataError{Row: i, Col: j, Value: v, Err: ErrNonFinite}
 			}
