@@ -6,6 +6,8 @@ import (
 	"math"
 	"math/rand/v2"
 	"slices"
+
+	"gonum.org/v1/gonum/mat"
 )
 
 // Size buckets of the demo, by rank of market cap.
@@ -14,10 +16,9 @@ const (
 	demoMidShare   = 0.3 // the next 30 %
 )
 
-// assetInfo returns the metadata of every asset: its sector, its market cap
-// at the end of its listed life (rounded to 0.01) and its size bucket.
-func (d *Demo) assetInfo(st structure) []AssetInfo {
-	r := d.TrueReturnsTo(nil)
+// finalCaps returns the market cap of every asset at the end of its listed
+// life, rounded to 0.01: the cap at listing compounded by the true returns r.
+func (d *Demo) finalCaps(st structure, r *mat.Dense) []float64 {
 	_, n := r.Dims()
 	caps := make([]float64, n)
 	for j := range caps {
@@ -27,6 +28,13 @@ func (d *Demo) assetInfo(st structure) []AssetInfo {
 		}
 		caps[j] = math.Round(v*100) / 100
 	}
+	return caps
+}
+
+// assetInfo returns the metadata of every asset: its sector, its market cap
+// and its size bucket.
+func (d *Demo) assetInfo(st structure, caps []float64) []AssetInfo {
+	n := len(caps)
 	order := make([]int, n)
 	for j := range order {
 		order[j] = j

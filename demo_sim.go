@@ -100,13 +100,15 @@ func GenerateDemo(cfg *DemoConfig) (*Demo, error) {
 	for j := range ids {
 		ids[j] = demoID(j, n)
 	}
-	d.Panel, err = NewPanel(dates, ids, d.observed(), DailyPeriods)
+	truth := d.TrueReturnsTo(nil)
+	caps := d.finalCaps(st, truth)
+	d.Panel, err = NewPanel(dates, ids, d.observe(truth), DailyPeriods)
 	if err != nil {
 		// A simple return ≤ −1: the tails drawn were too heavy for
 		// simple returns. It takes an extreme draw on a volatile asset.
 		return nil, fmt.Errorf("riskmodel: demo with seed %d: %w; use another seed or a larger SpecificDoF", c.Seed, err)
 	}
-	d.Assets = d.assetInfo(st)
+	d.Assets = d.assetInfo(st, caps)
 	d.Benchmark = d.benchmark()
 	d.Fund, err = d.fund(rand.New(rand.NewPCG(c.Seed, streamFund)))
 	if err != nil {
@@ -276,11 +278,11 @@ func (d *Demo) simulate(c DemoConfig, st structure, rs *rand.Rand) {
 	}
 }
 
-// observed returns the panel's cells: the true returns rounded to 1e-7,
-// NaN outside listed lives and in halts, and the faults written over them.
-func (d *Demo) observed() *mat.Dense {
-	r := d.TrueReturnsTo(nil)
-	t, n := r.Dims()
+// observe turns the true returns r, in place, into the panel's cells: rounded
+// to 1e-7, NaN outside listed lives and in halts, and the faults written
+// over them. It returns r.
+func (d *Demo) observe(r *mat.Dense) *mat.Dense {
+	t, _ := r.Dims()
 	for i := 0; i < t; i++ {
 		row := r.RawRowView(i)
 		for j := range row {
@@ -291,7 +293,6 @@ func (d *Demo) observed() *mat.Dense {
 			row[j] = math.Round(row[j]*1e7) / 1e7
 		}
 	}
-	_ = n
 	for _, ev := range d.Events {
 		for i := ev.Start; i < ev.Start+ev.Len; i++ {
 			r.Set(i, ev.Column, ev.Value)
