@@ -61,7 +61,10 @@ import (
 // minimizes ‖B·R − B_prev‖_F over the common assets (orthogonal Procrustes,
 // Schönemann 1966), so factors keep their order and sign night to night;
 // Info.Alignment holds R and the principal angles between the two loading
-// spaces (Björck & Golub 1973).
+// spaces (Björck & Golub 1973). The rotation leaves B·F·Bᵀ unchanged when
+// the factor covariance's volatility and correlation half-lives are equal;
+// with different ones D·C·D is not rotation-equivariant and Σ changes
+// slightly (the factor volatilities are measured along the rotated axes).
 //
 // Fit panics with mat.ErrShape if Groups, Assets or PreviousIndex is neither
 // nil nor of length N. It returns an error wrapping ErrSettings for bad
@@ -131,7 +134,7 @@ func Fit(x mat.Matrix, s Settings) (*Model, error) {
 		k = sel.chosen(r.Criterion)
 		info.Reason = fmt.Sprintf("%s choice over k = 0..%d", r.Criterion, sel.MaxFactors)
 	}
-	if k > 0 && !(p.s[k-1] > 1e-10*p.s[0]) {
+	if k > 0 && !(p.sq[k-1] > 1e-10*p.sq[0]) {
 		return nil, fmt.Errorf("%w: K = %d but the data have numerical rank below it", ErrTooManyFactors, k)
 	}
 	p = truncate(p, k)

@@ -178,7 +178,8 @@ func (m *Model) InverseTo(dst *mat.SymDense) *mat.SymDense {
 
 // Submodel returns the model of the assets at positions idx, in that order:
 // the rows idx of B and the entries idx of d with the same F, and the info
-// with its asset labels subset. Positions may repeat. Submodel panics with
+// with its asset labels subset. Positions may repeat; each copy has its own,
+// independent specific risk. Submodel panics with
 // mat.ErrIndexOutOfRange for a position outside [0, N) and with
 // mat.ErrZeroLength for an empty idx. Cost O(len(idx)·K²).
 func (m *Model) Submodel(idx []int) *Model {

@@ -116,7 +116,7 @@ func mvLoss(est, truth *mat.SymDense) float64 {
 	a.Mul(&inv, truth)
 	b.Mul(&a, &inv)
 	fn := float64(n)
-	return (mat.Trace(&b) / fn) / math.Pow(mat.Trace(&inv)/fn, 2) - 1/(mat.Trace(&tinv)/fn)
+	return (mat.Trace(&b)/fn)/math.Pow(mat.Trace(&inv)/fn, 2) - 1/(mat.Trace(&tinv)/fn)
 }
 
 // TestRandomizedMatchesExact: the randomized SVD gives the exact (Gram)

@@ -99,7 +99,7 @@ func gramSVD(a *mat.Dense, r, over, iters int, seed uint64) (pcs, bool) {
 	}
 	m := g.SymmetricDim()
 	var vals []float64 // descending
-	var top *mat.Dense  // m×r
+	var top *mat.Dense // m×r
 	if m <= gramLimit {
 		var eig mat.EigenSym
 		if !eig.Factorize(g, true) {
