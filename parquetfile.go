@@ -100,6 +100,7 @@ type columnStream struct {
 	group  int
 	pages  parquet.Pages
 	values parquet.ValueReader
+	open   []parquet.Page // pages whose values the last batch may still use
 }
 
 func newColumnStream(f *parquet.File, col int) *columnStream {
@@ -107,8 +108,19 @@ func newColumnStream(f *parquet.File, col int) *columnStream {
 }
 
 // fill reads up to len(buf) values, crossing page and row-group boundaries.
-// It returns io.EOF, with n == 0, only at the end of the column.
+// It returns io.EOF, with n == 0, only at the end of the column. The values
+// of a batch stay valid until the next call: the pages they came from are
+// handed back to parquet-go's buffer pool only then.
 func (s *columnStream) fill(buf []parquet.Value) (n int, err error) {
+	keep := s.open[:0]
+	for _, p := range s.open {
+		if s.values != nil && p == s.open[len(s.open)-1] {
+			keep = append(keep, p) // the current page is still being read
+			continue
+		}
+		parquet.Release(p)
+	}
+	s.open = keep
 	for n < len(buf) {
 		if s.values == nil {
 			if s.pages == nil {
@@ -128,6 +140,7 @@ func (s *columnStream) fill(buf []parquet.Value) (n int, err error) {
 			if err != nil {
 				return n, err
 			}
+			s.open = append(s.open, page)
 			s.values = page.Values()
 		}
 		k, err := s.values.ReadValues(buf[n:])
@@ -147,6 +160,10 @@ func (s *columnStream) fill(buf []parquet.Value) (n int, err error) {
 }
 
 func (s *columnStream) Close() {
+	for _, p := range s.open {
+		parquet.Release(p)
+	}
+	s.open = nil
 	if s.pages != nil {
 		s.pages.Close()
 	}
