@@ -44,7 +44,8 @@ const metaPeriods = "riskmodel.periods_per_year"
 // ErrMissingColumn, ErrUnexpectedColumn, ErrMissingValue, ErrBadDate,
 // ErrBadNumber, ErrNonFinite ("Inf", "NaN"), ErrImpossible (a return ≤ −1),
 // ErrDuplicate (a repeated (date, asset) or column), ErrColumnType,
-// ErrNotParquet, ErrTruncated, ErrTooSparse or ErrFormat.
+// ErrNotParquet, ErrTruncated, ErrTooSparse or ErrFormat. An invalid
+// opts.PeriodsPerYear is ErrPeriodsPerYear.
 //
 // A long file is read twice, once for its dates and assets and once to fill
 // the panel, so memory is the T×N panel plus one batch of rows. Cost O(rows ·
