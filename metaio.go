@@ -1,6 +1,7 @@
 package riskmodel
 
 import (
+	"encoding/csv"
 	"io"
 	"math"
 	"slices"
@@ -241,4 +242,15 @@ func writeTable(path string, header []string, rows [][]string, numeric string) e
 		return writeParquetTable(path, header, rows, numeric)
 	}
 	return &FileError{File: path, Err: ErrFormat}
+}
+
+func writeCSVTable(w io.Writer, header []string, rows [][]string) error {
+	cw := csv.NewWriter(w)
+	if err := cw.Write(header); err != nil {
+		return err
+	}
+	if err := cw.WriteAll(rows); err != nil {
+		return err
+	}
+	return cw.Error()
 }

@@ -1,24 +1,12 @@
 package riskmodel
 
 import (
-	"encoding/csv"
 	"io"
 	"os"
 	"strconv"
 
 	"github.com/parquet-go/parquet-go"
 )
-
-func writeCSVTable(w io.Writer, header []string, rows [][]string) error {
-	cw := csv.NewWriter(w)
-	if err := cw.Write(header); err != nil {
-		return err
-	}
-	if err := cw.WriteAll(rows); err != nil {
-		return err
-	}
-	return cw.Error()
-}
 
 // scanParquetTable reads a small flat Parquet table column by column in
 // batches and hands each row to fn as text.
