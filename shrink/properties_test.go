@@ -171,3 +171,24 @@ func TestBadInput(t *testing.T) {
 	require.Equal(t, 2, de.Col)
 	require.Contains(t, err.Error(), "column 2")
 }
+
+// TestEqualWeights: equal weights, whatever their scale, give the unweighted
+// answer for every estimator.
+func TestEqualWeights(t *testing.T) {
+	for _, e := range estimators() {
+		for _, in := range propertyInputs()[:2] {
+			t.Run(e.name+"/"+in.name, func(t *testing.T) {
+				tt, _ := in.x.Dims()
+				eq := make([]float64, tt)
+				for i := range eq {
+					eq[i] = 0.7
+				}
+				a, err := e.fn(nil, in.x, nil)
+				require.NoError(t, err)
+				b, err := e.fn(nil, in.x, eq)
+				require.NoError(t, err)
+				require.True(t, mat.EqualApprox(a, b, 1e-12*mat.Max(a)))
+			})
+		}
+	}
+}
