@@ -156,7 +156,7 @@ func TestClipMarchenkoPastur(t *testing.T) {
 	xw := randReturns(42, 30, 50)
 	got, gres, err := ClipMarchenkoPastur(nil, xw, nil)
 	require.NoError(t, err)
-	want := naiveClip(t, xw)
+	want := naiveClip(t, xw, nil)
 	require.True(t, mat.EqualApprox(want, got, 1e-12*mat.Max(want)))
 	require.InDelta(t, (1+math.Sqrt(50.0/30))*(1+math.Sqrt(50.0/30)), gres.Edge, 1e-12)
 }
@@ -174,10 +174,16 @@ func naiveTopEig(t *testing.T, s *mat.SymDense) float64 {
 	return vals[n-1]
 }
 
-// naiveClip applies Laloux et al. (1999) with an N×N eigendecomposition.
-func naiveClip(t *testing.T, x *mat.Dense) *mat.SymDense {
-	s, _, _ := naiveCov(x, nil)
-	tt, n := x.Dims()
+// naiveClip applies Laloux et al. (1999) with an N×N eigendecomposition;
+// with weights, S is weighted and T is Kish's effective size 1/Σω².
+func naiveClip(t *testing.T, x *mat.Dense, w []float64) *mat.SymDense {
+	s, _, om := naiveCov(x, w)
+	_, n := x.Dims()
+	var w2 float64
+	for _, v := range om {
+		w2 += v * v
+	}
+	tt := 1 / w2
 	c := mat.NewSymDense(n, nil)
 	for i := 0; i < n; i++ {
 		for j := i; j < n; j++ {
@@ -186,7 +192,7 @@ func naiveClip(t *testing.T, x *mat.Dense) *mat.SymDense {
 	}
 	vals, vecs, err := eigen(c)
 	require.NoError(t, err)
-	edge := (1 + math.Sqrt(float64(n)/float64(tt))) * (1 + math.Sqrt(float64(n)/float64(tt)))
+	edge := (1 + math.Sqrt(float64(n)/tt)) * (1 + math.Sqrt(float64(n)/tt))
 	var sum float64
 	k := 0
 	for _, v := range vals {
@@ -229,4 +235,59 @@ func formulaSigma(t *testing.T, x *mat.Dense, res NonlinearResult) *mat.SymDense
 	}
 	copy(d[n-len(res.Formula):], res.Formula)
 	return recompose(nil, vecs, d, 0)
+}
+
+// TestSpectralWeighted checks the weighted spectral estimators against naive
+// weighted references with N×N eigendecompositions (no library takes
+// weights here), on both sides of N = T.
+func TestSpectralWeighted(t *testing.T) {
+	for _, tc := range []struct {
+		name string
+		t, n int
+		tol  float64
+	}{
+		{"T>N", 80, 20, 1e-11},
+		{"T<N", 30, 50, 1e-11},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			x := randReturns(71, tc.t, tc.n)
+			w := randWeights(72, tc.t)
+			got, _, err := ClipMarchenkoPastur(nil, x, w)
+			require.NoError(t, err)
+			want := naiveClip(t, x, w)
+			require.True(t, mat.EqualApprox(want, got, tc.tol*mat.Max(want)))
+
+			// Nonlinear: S = T/(T−1)·Σ ω y yᵀ, n = T − 1.
+			s, _, _ := naiveCov(x, w)
+			s.ScaleSym(float64(tc.t)/float64(tc.t-1), s)
+			vals, vecs, err := eigen(s)
+			require.NoError(t, err)
+			m := min(tc.n, tc.t-1)
+			d, null := nonlinearShrink(vals[tc.n-m:], tc.n, tc.t-1)
+			d, null, _ = monotone(d, null, tc.n-m)
+			all := make([]float64, tc.n)
+			for i := range all {
+				all[i] = null
+			}
+			copy(all[tc.n-m:], d)
+			nwant := recompose(nil, vecs, all, 0)
+			ngot, _, err := Nonlinear(nil, x, w)
+			require.NoError(t, err)
+			require.True(t, mat.EqualApprox(nwant, ngot, 1e-9*mat.Max(nwant)))
+		})
+	}
+}
+
+// TestMonotone checks the pool-adjacent-violators step on a small case
+// worked by hand: (3 with weight 2, 1, 2, 5) pools the first three to
+// (2·3 + 1 + 2)/4 = 2.25, as scikit-learn 1.2.1
+// isotonic_regression([3, 1, 2, 5], sample_weight=[2, 1, 1, 1]) gives.
+func TestMonotone(t *testing.T) {
+	d, null, pooled := monotone([]float64{1, 2, 5}, 3, 2)
+	require.InDeltaSlice(t, []float64{2.25, 2.25, 5}, d, 1e-15)
+	require.InDelta(t, 2.25, null, 1e-15)
+	require.Equal(t, 4, pooled)
+	d, _, pooled = monotone([]float64{1, 2, 3}, 0, 0)
+	require.Equal(t, []float64{1, 2, 3}, d)
+	require.Equal(t, 0, pooled)
 }
