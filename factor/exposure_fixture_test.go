@@ -16,19 +16,19 @@ import (
 // wlsFixture is testdata/exposure/wls.json, written by make_wls_fixture.py
 // (numpy 1.24.2, pandas 1.5.3, statsmodels 0.13.5).
 type wlsFixture struct {
-	Provenance                     string
-	Sectors                        []string
-	SectorNames                    []string `json:"sector_names"`
-	Returns, Caps                  [][]*float64
-	Quality                        []float64
-	VolatilityWindow               int `json:"volatility_window"`
-	MomentumWindow                 int `json:"momentum_window"`
-	MomentumSkip                   int `json:"momentum_skip"`
-	Winsor                         float64
-	First                          int
-	FactorNames                    []string `json:"factor_names"`
-	Loadings                       [][]float64
-	Dates                          []struct {
+	Provenance       string
+	Sectors          []string
+	SectorNames      []string `json:"sector_names"`
+	Returns, Caps    [][]*float64
+	Quality          []float64
+	VolatilityWindow int `json:"volatility_window"`
+	MomentumWindow   int `json:"momentum_window"`
+	MomentumSkip     int `json:"momentum_skip"`
+	Winsor           float64
+	First            int
+	FactorNames      []string `json:"factor_names"`
+	Loadings         [][]float64
+	Dates            []struct {
 		Row, Assets   int
 		FactorReturns []float64 `json:"factor_returns"`
 		T             []float64
