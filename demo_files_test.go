@@ -16,7 +16,7 @@ import (
 // its module version into the footer's created_by field, which a test binary
 // and `go run` report differently.
 func TestDemoFilesAreCurrent(t *testing.T) {
-	d, err := GenerateDemo(nil)
+	d, err := bundledDemo()
 	require.NoError(t, err)
 	committed := filepath.Join("testdata", "demo")
 	fresh := t.TempDir()
@@ -59,7 +59,7 @@ func TestDemoFilesAreCurrent(t *testing.T) {
 }
 
 func TestDemoSmall(t *testing.T) {
-	d, err := GenerateDemo(nil)
+	d, err := bundledDemo()
 	require.NoError(t, err)
 	s := d.Small()
 	nt, n := s.Dims()

@@ -12,7 +12,7 @@ import (
 // each planted outlier (among the natural ones that fat tails and the stress
 // episode produce).
 func TestDemoQuality(t *testing.T) {
-	d, err := GenerateDemo(nil)
+	d, err := bundledDemo()
 	require.NoError(t, err)
 	q := Quality(d.Panel, nil)
 	nt, _ := d.Panel.Dims()

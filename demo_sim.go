@@ -66,8 +66,20 @@ const (
 // "large", next 30 % "mid", the rest "small").
 //
 // GenerateDemo returns an error wrapping ErrDemoConfig for a configuration it
-// cannot simulate, and an error if the fund cannot reach the configured
-// tracking error. Cost O(T·N·K) time and O(T·N) memory.
+// cannot simulate or a fund tracking error out of reach, and an error wrapping
+// ErrImpossible in the rare case that a draw gives a simple return ≤ −1 (an
+// extreme Student-t draw on a volatile asset; another seed or more degrees of
+// freedom avoid it). Cost O(T·N·K) time and O(T·N) memory.
+//
+// References:
+//
+// Bollerslev, T. (1986), "Generalized autoregressive conditional
+// heteroskedasticity", J. Econometrics 31(3):307–327 (the variance recursion;
+// citation from memory).
+//
+// Marsaglia, G. and Tsang, W. W. (2000), "A simple method for generating gamma
+// variables", ACM Trans. Math. Software 26(3):363–372 (the chi-squared draws
+// of the Student-t variates).
 func GenerateDemo(cfg *DemoConfig) (*Demo, error) {
 	c, err := cfg.resolve()
 	if err != nil {

@@ -7,6 +7,7 @@ import (
 	"regexp"
 	"slices"
 	"sort"
+	"sync"
 	"testing"
 	"time"
 
@@ -14,11 +15,15 @@ import (
 	"gonum.org/v1/gonum/mat"
 )
 
+// bundledDemo returns GenerateDemo(nil), drawn once for all tests: a Demo is
+// never modified after it is made.
+var bundledDemo = sync.OnceValues(func() (*Demo, error) { return GenerateDemo(nil) })
+
 // The demo is checked against its own truth: these are simulation tests with a
 // known true covariance, the one place where invented data is the reference.
 
 func TestGenerateDemoDefaults(t *testing.T) {
-	d, err := GenerateDemo(nil)
+	d, err := bundledDemo()
 	require.NoError(t, err)
 	nt, n := d.Panel.Dims()
 	require.Equal(t, 1008, nt)
@@ -222,7 +227,7 @@ func TestDemoPanelFromTruth(t *testing.T) {
 }
 
 func TestDemoSpansAndEvents(t *testing.T) {
-	d, err := GenerateDemo(nil)
+	d, err := bundledDemo()
 	require.NoError(t, err)
 	nt, n := d.Panel.Dims()
 	late, early := 0, 0
@@ -477,7 +482,7 @@ func TestDemoStress(t *testing.T) {
 }
 
 func TestDemoBenchmark(t *testing.T) {
-	d, err := GenerateDemo(nil)
+	d, err := bundledDemo()
 	require.NoError(t, err)
 	nt, _ := d.Panel.Dims()
 	require.Equal(t, nt-1, d.HoldingsRow)
@@ -511,7 +516,7 @@ func TestDemoBenchmark(t *testing.T) {
 }
 
 func TestDemoSizeBuckets(t *testing.T) {
-	d, err := GenerateDemo(nil)
+	d, err := bundledDemo()
 	require.NoError(t, err)
 	count := map[string]int{}
 	lowest := map[string]float64{"large": math.Inf(1), "mid": math.Inf(1), "small": math.Inf(1)}
