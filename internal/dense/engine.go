@@ -102,30 +102,40 @@ func (op *operand) packRow(dst []float64, k, kk, m, r int) {
 }
 
 // packTrans writes P(k0..k0+kk, i0..i0+w) of a transposed P into dst
-// (kk×r, zero padded), reading x row by row.
+// (kk×r, zero padded), reading four rows of x at a time so that each step
+// writes four neighbouring values.
 func (op *operand) packTrans(dst []float64, k0, kk, i0, w, r int) {
 	if w < r {
 		clear(dst)
 	}
-	for j := 0; j < w; j++ {
-		src := op.data[(i0+j)*op.stride+k0:][:kk]
-		s := 1.0
+	scale := func(j int) float64 {
 		if op.iw != nil {
-			s = op.iw[i0+j]
+			return op.iw[i0+j]
 		}
-		switch {
-		case op.kw != nil:
+		return 1
+	}
+	row := func(j int) []float64 { return op.data[(i0+j)*op.stride+k0:][:kk] }
+	j := 0
+	if op.kw == nil {
+		for ; j+4 <= w; j += 4 {
+			r0, r1, r2, r3 := row(j), row(j+1), row(j+2), row(j+3)
+			s0, s1, s2, s3 := scale(j), scale(j+1), scale(j+2), scale(j+3)
+			for k := range r0 {
+				d := dst[k*r+j : k*r+j+4]
+				d[0], d[1], d[2], d[3] = r0[k]*s0, r1[k]*s1, r2[k]*s2, r3[k]*s3
+			}
+		}
+	}
+	for ; j < w; j++ {
+		src, s := row(j), scale(j)
+		if op.kw != nil {
 			for k, v := range src {
 				dst[k*r+j] = v * op.kw[k0+k] * s
 			}
-		case op.iw != nil:
-			for k, v := range src {
-				dst[k*r+j] = v * s
-			}
-		default:
-			for k, v := range src {
-				dst[k*r+j] = v
-			}
+			continue
+		}
+		for k, v := range src {
+			dst[k*r+j] = v * s
 		}
 	}
 }
@@ -165,16 +175,28 @@ func product(c []float64, ldc, m, n, k int, p, q *operand, upper bool, kern kern
 			tasks = append(tasks, task{i, j})
 		}
 	}
+	// When P and Q are one operand, the slivers of P are read inside the
+	// wider slivers of Q (mr divides nr), lda = nr apart: one packing
+	// instead of two.
 	var pp, qp *packed
+	shared := p == q
 	if k > 0 {
-		pp = p.pack(k, m, kern.mr, workers)
-		if upper && p == q && kern.mr == kern.nr {
-			qp = pp
-		} else {
-			qp = q.pack(k, n, kern.nr, workers)
-			defer qp.release()
+		qp = q.pack(k, n, kern.nr, workers)
+		defer qp.release()
+		if !shared {
+			pp = p.pack(k, m, kern.mr, workers)
+			defer pp.release()
 		}
-		defer pp.release()
+	}
+	lda := kern.mr
+	if shared {
+		lda = kern.nr
+	}
+	sliverA := func(k0, kk, i int) []float64 {
+		if shared {
+			return qp.sliver(k0, kk, i-i%kern.nr)[i%kern.nr:]
+		}
+		return pp.sliver(k0, kk, i)
 	}
 	parallel(len(tasks), workers, func(t int) {
 		tk := tasks[t]
@@ -193,7 +215,7 @@ func product(c []float64, ldc, m, n, k int, p, q *operand, upper bool, kern kern
 			kk := min(kc, k-k0)
 			for ir := 0; ir < mi; ir += kern.mr {
 				gi := tk.i + ir
-				a := pp.sliver(k0, kk, gi)
+				a := sliverA(k0, kk, gi)
 				for jr := 0; jr < nj; jr += kern.nr {
 					gj := tk.j + jr
 					if upper && gi > gj+kern.nr-1 {
@@ -201,7 +223,7 @@ func product(c []float64, ldc, m, n, k int, p, q *operand, upper bool, kern kern
 					}
 					b := qp.sliver(k0, kk, gj)
 					if ir+kern.mr <= mi && jr+kern.nr <= nj && (!upper || gi+kern.mr-1 <= gj) {
-						kern.fn(kk, a, b, c[gi*ldc+gj:], ldc)
+						kern.fn(kk, a, lda, b, c[gi*ldc+gj:], ldc)
 						continue
 					}
 					// An edge or diagonal sliver: through a scratch block, so
@@ -211,7 +233,7 @@ func product(c []float64, ldc, m, n, k int, p, q *operand, upper bool, kern kern
 						tmp = make([]float64, kern.mr*kern.nr)
 					}
 					clear(tmp)
-					kern.fn(kk, a, b, tmp, kern.nr)
+					kern.fn(kk, a, lda, b, tmp, kern.nr)
 					for i := 0; i < min(kern.mr, mi-ir); i++ {
 						row := c[(gi+i)*ldc:]
 						for j := 0; j < min(kern.nr, nj-jr); j++ {

@@ -6,10 +6,10 @@ package dense
 // elements of the packed slivers and of the block of C.
 //
 //go:noescape
-func kern4x12(k int, a, b, c *float64, ldc int)
+func kern4x12(k int, a *float64, lda int, b, c *float64, ldc int)
 
 //go:noescape
-func kern8x24(k int, a, b, c *float64, ldc int)
+func kern8x24(k int, a *float64, lda int, b, c *float64, ldc int)
 
 var (
 	avx2Kernel   = kernel{name: "avx2", mr: 4, nr: 12, fused: true, fn: kernAVX2}
@@ -17,20 +17,20 @@ var (
 )
 
 // kernAVX2 checks the slice bounds the assembly relies on, then runs it.
-func kernAVX2(k int, a, b, c []float64, ldc int) {
+func kernAVX2(k int, a []float64, lda int, b, c []float64, ldc int) {
 	_ = c[3*ldc+11]
 	if k > 0 {
-		_, _ = a[4*k-1], b[12*k-1]
+		_, _ = a[(k-1)*lda+3], b[12*k-1]
 	}
-	kern4x12(k, &a[0], &b[0], &c[0], ldc)
+	kern4x12(k, &a[0], lda, &b[0], &c[0], ldc)
 }
 
-func kernAVX512(k int, a, b, c []float64, ldc int) {
+func kernAVX512(k int, a []float64, lda int, b, c []float64, ldc int) {
 	_ = c[7*ldc+23]
 	if k > 0 {
-		_, _ = a[8*k-1], b[24*k-1]
+		_, _ = a[(k-1)*lda+7], b[24*k-1]
 	}
-	kern8x24(k, &a[0], &b[0], &c[0], ldc)
+	kern8x24(k, &a[0], lda, &b[0], &c[0], ldc)
 }
 
 func selectKernel() kernel {

@@ -3,21 +3,23 @@
 #include "textflag.h"
 
 // The micro-kernels add to an mr×nr block of C, rows ldc apart, the sum
-// over p < k of a_p b_pᵀ, where a holds k packed slivers of mr values and b
-// of nr values. Each accumulator row is a vector of nr/3 lanes × 3 registers
-// along a row of C; every step broadcasts one value of a and fuses a
-// multiply-add per register, so each element is summed in order of p with a
-// single rounding per step, then added to C once.
+// over p < k of a_p b_pᵀ, where b holds k packed rows of nr values and a
+// holds k rows of mr values, lda apart. Each row of the block of C is held
+// in three vector registers; every step broadcasts one value of a and fuses
+// a multiply-add per register, so each element is summed in order of p with
+// a single rounding per step, then added to C once.
 
-// func kern4x12(k int, a, b, c *float64, ldc int)
+// func kern4x12(k int, a *float64, lda int, b, c *float64, ldc int)
 // Y0–Y11 accumulate the 4×12 block (row i in Y3i…Y3i+2), Y12–Y14 hold b_p,
 // Y15 the broadcast a_p,i.
-TEXT ·kern4x12(SB), NOSPLIT, $0-40
+TEXT ·kern4x12(SB), NOSPLIT, $0-48
 	MOVQ k+0(FP), CX
 	MOVQ a+8(FP), AX
-	MOVQ b+16(FP), BX
-	MOVQ c+24(FP), DI
-	MOVQ ldc+32(FP), SI
+	MOVQ lda+16(FP), R9
+	SHLQ $3, R9
+	MOVQ b+24(FP), BX
+	MOVQ c+32(FP), DI
+	MOVQ ldc+40(FP), SI
 	SHLQ $3, SI
 	// Fetch the block of C while the loop runs: its rows lie far apart and
 	// would otherwise be waited for at the end.
@@ -71,7 +73,7 @@ loop4x12:
 	VFMADD231PD Y12, Y15, Y9
 	VFMADD231PD Y13, Y15, Y10
 	VFMADD231PD Y14, Y15, Y11
-	ADDQ $32, AX
+	ADDQ R9, AX
 	ADDQ $96, BX
 	DECQ CX
 	JNZ loop4x12
@@ -106,15 +108,17 @@ store4x12:
 	VZEROUPPER
 	RET
 
-// func kern8x24(k int, a, b, c *float64, ldc int)
+// func kern8x24(k int, a *float64, lda int, b, c *float64, ldc int)
 // Z0–Z23 accumulate the 8×24 block (row i in Z3i…Z3i+2), Z24–Z26 hold b_p,
 // Z27–Z30 the broadcasts a_p,i.
-TEXT ·kern8x24(SB), NOSPLIT, $0-40
+TEXT ·kern8x24(SB), NOSPLIT, $0-48
 	MOVQ k+0(FP), CX
 	MOVQ a+8(FP), AX
-	MOVQ b+16(FP), BX
-	MOVQ c+24(FP), DI
-	MOVQ ldc+32(FP), SI
+	MOVQ lda+16(FP), R9
+	SHLQ $3, R9
+	MOVQ b+24(FP), BX
+	MOVQ c+32(FP), DI
+	MOVQ ldc+40(FP), SI
 	SHLQ $3, SI
 	// Fetch the block of C while the loop runs: its rows lie far apart and
 	// would otherwise be waited for at the end.
@@ -220,7 +224,7 @@ loop8x24:
 	VFMADD231PD Z24, Z30, Z21
 	VFMADD231PD Z25, Z30, Z22
 	VFMADD231PD Z26, Z30, Z23
-	ADDQ $64, AX
+	ADDQ R9, AX
 	ADDQ $192, BX
 	DECQ CX
 	JNZ loop8x24

@@ -1,7 +1,8 @@
 #!/usr/bin/python3
 """Times numpy's X.T @ X and X @ X.T on the matrices the Go benchmarks use.
 
-Run with Debian's interpreter, in the same session as the Go benchmarks:
+Run with Debian's interpreter, in the same session as the Go benchmarks
+(bench_report.py does both and prints the table):
 
     /usr/bin/python3 internal/dense/testdata/bench_numpy.py [repeats]
 
