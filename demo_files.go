@@ -12,8 +12,8 @@ const (
 	DemoSmallDates  = DailyPeriods
 )
 
-// DemoFiles are the files WriteFiles writes, in the order it writes them.
-var DemoFiles = []string{
+// demoFiles are the files WriteFiles writes, in the order it writes them.
+var demoFiles = []string{
 	"returns.parquet",
 	"returns_small.csv",
 	"returns_small_wide.csv",
@@ -37,13 +37,14 @@ func (d *Demo) Small() *Panel {
 	return d.Panel.Rows(0, min(t, DemoSmallDates)).Select(cols)
 }
 
-// WriteFiles writes the demo into the existing folder dir as the files named
-// in DemoFiles: the whole panel as long Parquet (WriteReturnsParquet), the
-// small panel as long and wide CSV (WriteReturnsCSV), the asset metadata
-// (WriteAssets) and the benchmark and fund holdings (WriteHoldings), each in
-// CSV and Parquet. ReadReturns, ReadAssets and ReadHoldings give back exactly
-// Panel, Small(), Assets, Benchmark and Fund. It returns the first error met,
-// naming the file.
+// WriteFiles writes the demo into the existing folder dir: the whole panel
+// as long Parquet, returns.parquet (WriteReturnsParquet); the small panel as
+// long and wide CSV, returns_small.csv and returns_small_wide.csv
+// (WriteReturnsCSV); the asset metadata as assets.csv and assets.parquet
+// (WriteAssets); the holdings as benchmark.csv, benchmark.parquet, fund.csv
+// and fund.parquet (WriteHoldings). ReadReturns, ReadAssets and ReadHoldings
+// give back exactly Panel, Small(), Assets, Benchmark and Fund. It returns
+// the first error met, naming the file.
 func (d *Demo) WriteFiles(dir string) error {
 	small := d.Small()
 	steps := []func(path string) error{
@@ -57,7 +58,7 @@ func (d *Demo) WriteFiles(dir string) error {
 		func(p string) error { return WriteHoldings(p, d.Fund) },
 		func(p string) error { return WriteHoldings(p, d.Fund) },
 	}
-	for k, name := range DemoFiles {
+	for k, name := range demoFiles {
 		path := filepath.Join(dir, name)
 		if err := steps[k](path); err != nil {
 			return fmt.Errorf("riskmodel: writing demo file %s: %w", path, err)

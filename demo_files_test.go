@@ -21,7 +21,7 @@ func TestDemoFilesAreCurrent(t *testing.T) {
 	committed := filepath.Join("testdata", "demo")
 	fresh := t.TempDir()
 	require.NoError(t, d.WriteFiles(fresh))
-	for _, name := range DemoFiles {
+	for _, name := range demoFiles {
 		if filepath.Ext(name) != ".csv" {
 			continue
 		}
