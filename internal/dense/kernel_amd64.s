@@ -54,6 +54,9 @@ TEXT ·kern4x12(SB), NOSPLIT, $0-48
 	TESTQ CX, CX
 	JZ store4x12
 loop4x12:
+	// b streams from L2: ask for it eight steps ahead.
+	PREFETCHT0 768(BX)
+	PREFETCHT0 832(BX)
 	VMOVUPD 0(BX), Y12
 	VMOVUPD 32(BX), Y13
 	VMOVUPD 64(BX), Y14
@@ -189,6 +192,10 @@ TEXT ·kern8x24(SB), NOSPLIT, $0-48
 	TESTQ CX, CX
 	JZ store8x24
 loop8x24:
+	// b streams from L2: ask for it eight steps ahead.
+	PREFETCHT0 1536(BX)
+	PREFETCHT0 1600(BX)
+	PREFETCHT0 1664(BX)
 	VMOVUPD 0(BX), Z24
 	VMOVUPD 64(BX), Z25
 	VMOVUPD 128(BX), Z26
