@@ -130,10 +130,10 @@ type Score struct {
 	FrobeniusPRIAL, MVPRIAL float64
 
 	FitSeconds float64 // mean wall-clock seconds of one fit; reported, never ranked
-	// Ridged counts the dates whose forecast was singular, so the
-	// unconstrained minimum-variance portfolio used a ridge of gmvRidge
-	// times the mean variance; NotConverged the long-only solves that hit
-	// the iteration limit.
+	// Ridged counts the dates whose dense forecast was singular or had a
+	// condition number above 1e12, so the unconstrained minimum-variance
+	// portfolio used a ridge of 1e-6 times the mean variance; NotConverged
+	// counts the long-only solves that hit the iteration limit.
 	Ridged, NotConverged int
 }
 

@@ -21,6 +21,10 @@ import (
 // evaluation counts every date it was needed. Common practice, no source.
 const gmvRidge = 1e-6
 
+// gmvMaxCond is the condition number above which a dense forecast counts as
+// singular and gets the ridge: past it a solve keeps fewer than 4 digits.
+const gmvMaxCond = 1e12
+
 // covOp is a forecast covariance seen through the operations the evaluation
 // needs.
 type covOp struct {
@@ -32,6 +36,8 @@ type covOp struct {
 }
 
 // newCovOp prepares the operations of c, a *factor.Model or a *mat.SymDense.
+// A dense c that is not positive definite, or whose condition number passes
+// gmvMaxCond, is solved with the ridge gmvRidge and flagged.
 // Cost: O(N·K) for a factor model; one Cholesky, O(N³/3), for a dense one.
 func newCovOp(c Covariance) *covOp {
 	n := c.SymmetricDim()
@@ -46,7 +52,7 @@ func newCovOp(c Covariance) *covOp {
 			blas64.Symv(1, raw, blas64.Vector{N: n, Inc: 1, Data: x}, 0, blas64.Vector{N: n, Inc: 1, Data: dst})
 		}
 		var chol mat.Cholesky
-		if !chol.Factorize(s) {
+		if !chol.Factorize(s) || chol.Cond() > gmvMaxCond {
 			var tr float64
 			for i := 0; i < n; i++ {
 				tr += s.At(i, i)
@@ -65,7 +71,8 @@ func newCovOp(c Covariance) *covOp {
 		}
 		op.solve = func(dst, x []float64) {
 			v := mat.NewVecDense(n, dst)
-			if err := chol.SolveVecTo(v, mat.NewVecDense(n, x)); err != nil {
+			err := chol.SolveVecTo(v, mat.NewVecDense(n, x))
+			if _, ill := err.(mat.Condition); err != nil && !ill {
 				for i := range dst {
 					dst[i] = math.NaN()
 				}
