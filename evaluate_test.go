@@ -9,7 +9,7 @@ import (
 	"testing"
 
 	"github.com/stretchr/testify/require"
-	)
+)
 
 func methodsOf(names ...string) []EvaluateMethod {
 	var m []EvaluateMethod
@@ -207,8 +207,8 @@ func TestEvaluateDeterministicAndOutputs(t *testing.T) {
 
 	ev := runs[0]
 	var js struct {
-		Estimators []map[string]any `json:"estimators"`
-		Recommendation string       `json:"recommendation"`
+		Estimators     []map[string]any `json:"estimators"`
+		Recommendation string           `json:"recommendation"`
 	}
 	require.NoError(t, json.Unmarshal(a.Bytes(), &js))
 	require.Len(t, js.Estimators, 4)
