@@ -349,7 +349,13 @@ func TestSelectedKernel(t *testing.T) {
 	require.Equal(t, ks[len(ks)-1].name, best.name)
 	require.Equal(t, "go", ks[0].name)
 	for _, k := range ks {
-		require.Zero(t, tile%k.mr, k.name)
-		require.Zero(t, tile%k.nr, k.name)
+		require.Zero(t, unit%k.mr, k.name)
+		require.Zero(t, unit%k.nr, k.name)
+	}
+	require.Zero(t, tile%unit)
+	for _, m := range []int{1, 50, 250, 500, 1000, 3000} {
+		ts := tileFor(m, m)
+		require.Zero(t, ts%unit, "m %d", m)
+		require.True(t, ts >= 2*unit && ts <= tile, "m %d: tile %d", m, ts)
 	}
 }

@@ -11,13 +11,24 @@ import (
 // The reduction index k runs in blocks of kc, and every element of C is
 // summed in the same fixed order — within a block by the micro-kernel, then
 // block after block into C — so the result does not depend on how tiles are
-// shared among workers. The output is cut into square tiles of side tile, a
-// multiple of every kernel's mr and nr; a tile of packed Q (tile×kc) stays in
-// the 1 MiB L2 cache of a core while the mr×kc slivers of P stream through L1.
+// shared among workers. The output is cut into square tiles of side at most
+// tile, a multiple of every kernel's mr and nr; a tile of packed Q (tile×kc)
+// stays in the 1 MiB L2 cache of a core while the mr×kc slivers of P stream
+// through L1.
 const (
 	kc   = 256
 	tile = 240
+	unit = 24 // every tile side is a multiple of unit, unit of every mr and nr
 )
+
+// tileFor returns the side of the tiles of an m×n output: tile, or less for
+// small outputs, so that there are at least four rows of tiles to share
+// among the cores. Neither the tiling nor the number of workers changes the
+// order in which any element is summed.
+func tileFor(m, n int) int {
+	side := (min(m, n) + 3) / 4
+	return max(2*unit, min(tile, side/unit*unit))
+}
 
 // operand is the K×M matrix P of a product PᵀQ, read from row-major data:
 // P(k, i) = data[k*stride+i], or data[i*stride+k] when trans is set. A
@@ -46,42 +57,44 @@ func (p *packed) sliver(k0, kk, i int) []float64 {
 	return p.buf[off : off+kk*p.r]
 }
 
-// pack copies the K×m operand into slivers r wide, one block of kc
-// reductions per task spread over the workers. The buffer comes from a pool;
-// release returns it.
-func (op *operand) pack(k, m, r, workers int) *packed {
+// pack copies the K×m operand into slivers r wide. The work is cut into
+// blocks of kc reductions × tile indices spread over the workers. The buffer
+// comes from a pool; release returns it.
+func (op *operand) pack(k, m, r, ts, workers int) *packed {
 	mpad := (m + r - 1) / r * r
 	p := &packed{buf: getBuf(k * mpad), r: r, mpad: mpad}
-	blocks := (k + kc - 1) / kc
-	parallel(blocks, workers, func(b int) {
-		k0 := b * kc
+	blocks, chunks := (k+kc-1)/kc, (m+ts-1)/ts
+	parallel(blocks*chunks, workers, func(t int) {
+		k0 := (t / chunks) * kc
 		kk := min(kc, k-k0)
+		lo := (t % chunks) * ts
+		hi := min(lo+ts, m)
 		if op.trans {
-			for i := 0; i < m; i += r {
+			for i := lo; i < hi; i += r {
 				op.packTrans(p.sliver(k0, kk, i), k0, kk, i, min(r, m-i), r)
 			}
 			return
 		}
 		for k := k0; k < k0+kk; k++ {
-			op.packRow(p.buf[k0*mpad+(k-k0)*r:], k, kk, m, r)
+			op.packRow(p.buf[k0*mpad+(k-k0)*r:], k, kk, lo, hi, r)
 		}
 	})
 	return p
 }
 
-// packRow spreads row k of a non-transposed P over the slivers of its
-// block, whose first sliver starts at dst: index i goes to sliver i/r at
-// offset (i/r)·kk·r + i%r.
-func (op *operand) packRow(dst []float64, k, kk, m, r int) {
-	src := op.data[k*op.stride:][:m]
+// packRow spreads indices lo ≤ i < hi (lo a multiple of r) of row k of a
+// non-transposed P over the slivers of its block, whose first sliver starts
+// at dst: index i goes to sliver i/r at offset (i/r)·kk·r + i%r.
+func (op *operand) packRow(dst []float64, k, kk, lo, hi, r int) {
+	src := op.data[k*op.stride:][:hi]
 	s := 1.0
 	if op.kw != nil {
 		s = op.kw[k]
 	}
 	step := kk * r
-	for i0 := 0; i0 < m; i0 += r {
+	for i0 := lo; i0 < hi; i0 += r {
 		d := dst[(i0/r)*step:][:r]
-		w := min(r, m-i0)
+		w := min(r, hi-i0)
 		seg := src[i0 : i0+w]
 		switch {
 		case op.iw != nil:
@@ -166,12 +179,13 @@ func product(c []float64, ldc, m, n, k int, p, q *operand, upper bool, kern kern
 	workers := runtime.GOMAXPROCS(0)
 	type task struct{ i, j int }
 	var tasks []task
-	for i := 0; i < m; i += tile {
+	ts := tileFor(m, n)
+	for i := 0; i < m; i += ts {
 		j0 := 0
 		if upper {
 			j0 = i
 		}
-		for j := j0; j < n; j += tile {
+		for j := j0; j < n; j += ts {
 			tasks = append(tasks, task{i, j})
 		}
 	}
@@ -181,10 +195,10 @@ func product(c []float64, ldc, m, n, k int, p, q *operand, upper bool, kern kern
 	var pp, qp *packed
 	shared := p == q
 	if k > 0 {
-		qp = q.pack(k, n, kern.nr, workers)
+		qp = q.pack(k, n, kern.nr, ts, workers)
 		defer qp.release()
 		if !shared {
-			pp = p.pack(k, m, kern.mr, workers)
+			pp = p.pack(k, m, kern.mr, ts, workers)
 			defer pp.release()
 		}
 	}
@@ -200,7 +214,7 @@ func product(c []float64, ldc, m, n, k int, p, q *operand, upper bool, kern kern
 	}
 	parallel(len(tasks), workers, func(t int) {
 		tk := tasks[t]
-		mi, nj := min(tile, m-tk.i), min(tile, n-tk.j)
+		mi, nj := min(ts, m-tk.i), min(ts, n-tk.j)
 		for i := tk.i; i < tk.i+mi; i++ {
 			j0 := tk.j
 			if upper {
