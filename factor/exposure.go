@@ -118,7 +118,10 @@ type exposureSpec struct {
 
 // names returns the factor names: market, sectors, styles.
 func (p *exposureSpec) names() []string {
-	out := append([]string{"market"}, p.sectorNames...)
+	out := []string{"market"}
+	if p.ns() > 0 {
+		out = append(out, p.sectorNames...)
+	}
 	for _, st := range p.styles {
 		out = append(out, st.name)
 	}
@@ -126,7 +129,16 @@ func (p *exposureSpec) names() []string {
 }
 
 // k returns the number of exposure factors.
-func (p *exposureSpec) k() int { return 1 + len(p.sectorNames) + len(p.styles) }
+func (p *exposureSpec) k() int { return 1 + p.ns() + len(p.styles) }
+
+// ns returns the number of sector factors: none for a single sector, whose
+// factor would be the market again.
+func (p *exposureSpec) ns() int {
+	if len(p.sectorNames) < 2 {
+		return 0
+	}
+	return len(p.sectorNames)
+}
 
 func badSetting(format string, a ...any) error {
 	return fmt.Errorf("%w: "+format, append([]any{ErrSettings}, a...)...)
@@ -301,7 +313,8 @@ type CrossSection struct {
 // as statsmodels' WLS), Cov(f) = C·Cov(g)·Cᵀ, t_k = f_k / √Cov(f)_kk.
 //
 // Exposures at date t use only information before t. Sector exposures are
-// 0/1 and the market's is 1. Styles, in this order: "size", log cap from
+// 0/1 and the market's is 1; with a single sector there is no sector factor
+// (it would be the market again) and no constraint. Styles, in this order: "size", log cap from
 // row t of Caps; "volatility", the sample standard deviation (divisor m − 1)
 // of the m observed returns of rows t − VolatilityWindow … t − 1; "momentum",
 // Σ log(1 + r) over the observed returns of rows t − MomentumWindow …

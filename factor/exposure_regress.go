@@ -64,11 +64,13 @@ func (p *exposureSpec) regress(x mat.Matrix) (*Regression, *mat.Dense, error) {
 // loadingsAt fills dst (N×K) with the full exposures as of row asOf:
 // market 1, the sector dummies, the standardised styles.
 func (p *exposureSpec) loadingsAt(dst *mat.Dense, asOf int, work []float64) error {
-	s := len(p.sectorNames)
+	s := p.ns()
 	dst.Zero()
 	for j := 0; j < p.n; j++ {
 		dst.Set(j, 0, 1)
-		dst.Set(j, 1+p.sector[j], 1)
+		if s > 0 {
+			dst.Set(j, 1+p.sector[j], 1)
+		}
 	}
 	if len(p.styles) == 0 {
 		return nil
@@ -97,7 +99,7 @@ func newCrossSolver(p *exposureSpec) *crossSolver {
 // diagnostics into reg.
 func (c *crossSolver) solve(x mat.Matrix, t int, reg *Regression) error {
 	p := c.p
-	k, s := p.k(), len(p.sectorNames)
+	k, s := p.k(), p.ns()
 	if err := p.loadingsAt(c.e, t, c.work); err != nil {
 		return err
 	}
@@ -120,12 +122,15 @@ func (c *crossSolver) solve(x mat.Matrix, t int, reg *Regression) error {
 		c.caps[p.sector[j]] += cp
 		c.count[p.sector[j]]++
 	}
-	for q, m := range c.count {
+	for q, m := range c.count[:s] {
 		if m == 0 {
 			return fmt.Errorf("%w: sector %q at date %d", ErrEmptySector, p.sectorNames[q], t)
 		}
 	}
 	n, np := len(c.rows), k-1
+	if s == 0 {
+		np = k // one sector: no collinearity, no constraint
+	}
 	if n <= np {
 		return fmt.Errorf("%w: date %d has %d assets for %d parameters", ErrTooFewData, t, n, np)
 	}
@@ -135,6 +140,10 @@ func (c *crossSolver) solve(x mat.Matrix, t int, reg *Regression) error {
 	for q := range ratio {
 		ratio[q] = c.caps[q] / c.caps[last]
 	}
+	off := 1 // column of the first style in the reduced design, minus one
+	if s == 0 {
+		off = 0
+	}
 	a := mat.NewDense(n, np, nil)
 	yw := mat.NewVecDense(n, nil)
 	for i, j := range c.rows {
@@ -142,8 +151,8 @@ func (c *crossSolver) solve(x mat.Matrix, t int, reg *Regression) error {
 		row := a.RawRowView(i)
 		ej := c.e.RawRowView(j)
 		row[0] = sw
-		q := p.sector[j]
-		if q == last {
+		if q := p.sector[j]; s == 0 {
+		} else if q == last {
 			for h := 0; h < last; h++ {
 				row[1+h] = -ratio[h] * sw
 			}
@@ -151,7 +160,7 @@ func (c *crossSolver) solve(x mat.Matrix, t int, reg *Regression) error {
 			row[1+q] = sw
 		}
 		for h := s + 1; h < k; h++ {
-			row[h-1] = ej[h] * sw
+			row[h-off] = ej[h] * sw
 		}
 		yw.SetVec(i, y[i]*sw)
 	}
@@ -182,9 +191,11 @@ func (c *crossSolver) solve(x mat.Matrix, t int, reg *Regression) error {
 		f[1+q] = g.AtVec(1 + q)
 		fl -= ratio[q] * f[1+q]
 	}
-	f[1+last] = fl
+	if s > 0 {
+		f[1+last] = fl
+	}
 	for h := s + 1; h < k; h++ {
-		f[h] = g.AtVec(h - 1)
+		f[h] = g.AtVec(h - off)
 	}
 
 	// Residuals, R² and σ̂².
@@ -217,7 +228,7 @@ func (c *crossSolver) solve(x mat.Matrix, t int, reg *Regression) error {
 		cmap.Set(1+last, 1+q, -ratio[q])
 	}
 	for h := s + 1; h < k; h++ {
-		cmap.Set(h, h-1, 1)
+		cmap.Set(h, h-off, 1)
 	}
 	var cr mat.Dense
 	cr.Mul(cmap, &rinv) // Cov(f) = σ̂²·(C·R⁻¹)(C·R⁻¹)ᵀ
