@@ -81,4 +81,3 @@ func TestHybridBadSettings(t *testing.T) {
 	require.Equal(t, []string{"stat1", "stat2"}, m.FactorNames()[7:])
 	require.True(t, math.IsNaN(reg.SpecificReturns.At(20, 7)), "a missing return stays missing in the hybrid residuals")
 }
-
