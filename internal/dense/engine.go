@@ -2,6 +2,7 @@ package dense
 
 import (
 	"runtime"
+	"slices"
 	"sync"
 	"sync/atomic"
 )
@@ -189,6 +190,16 @@ func product(c []float64, ldc, m, n, k int, p, q *operand, upper bool, kern kern
 			tasks = append(tasks, task{i, j})
 		}
 	}
+	// Largest tiles first, so that the workers finish together (the tiles
+	// on the diagonal hold half the work, those at the edges less).
+	work := func(t task) int {
+		w := min(ts, m-t.i) * min(ts, n-t.j)
+		if upper && t.i == t.j {
+			w /= 2
+		}
+		return w
+	}
+	slices.SortStableFunc(tasks, func(a, b task) int { return work(b) - work(a) })
 	// When P and Q are one operand, the slivers of P are read inside the
 	// wider slivers of Q (mr divides nr), lda = nr apart: one packing
 	// instead of two.
