@@ -20,3 +20,35 @@ func ExampleXtWX() {
 	// 0.0010 -0.0002
 	// -0.0002 0.0006
 }
+
+func ExampleXWXt() {
+	// The Gram matrix of three dates, the last weighted four times: its
+	// entries are √w_s √w_t x_s·x_t.
+	x := mat.NewDense(3, 2, []float64{
+		0.01, 0.02,
+		-0.01, 0.00,
+		0.02, -0.01,
+	})
+	g := dense.XWXt(nil, x, []float64{1, 1, 4})
+	for i := 0; i < 3; i++ {
+		fmt.Printf("%.4f %.4f %.4f\n", g.At(i, 0), g.At(i, 1), g.At(i, 2))
+	}
+	// Output:
+	// 0.0005 -0.0001 0.0000
+	// -0.0001 0.0001 -0.0004
+	// 0.0000 -0.0004 0.0020
+}
+
+func ExampleMulTA() {
+	// Returns of two assets on three dates against one factor's returns.
+	x := mat.NewDense(3, 2, []float64{
+		0.01, 0.02,
+		-0.01, 0.00,
+		0.02, -0.01,
+	})
+	f := mat.NewDense(3, 1, []float64{0.01, -0.02, 0.03})
+	p := dense.MulTA(nil, x, f)
+	fmt.Printf("%.4f %.4f\n", p.At(0, 0), p.At(1, 0))
+	// Output:
+	// 0.0009 -0.0001
+}

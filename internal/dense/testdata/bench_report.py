@@ -43,8 +43,8 @@ def go_bench(pattern, benchtime, count):
 def main():
     count = int(sys.argv[1]) if len(sys.argv) > 1 else 5
     runs = go_bench("Peak", "3x", count)
-    runs.update(go_bench("(XtX|XWXt)/(250x500|500x1000)/", "10x", count))
-    runs.update(go_bench("(XtX|XWXt)/1000x3000/", "1x", count))
+    runs.update(go_bench("(XtX|XWXt|XtWXWeighted)/(250x500|500x1000)/", "10x", count))
+    runs.update(go_bench("(XtX|XWXt|XtWXWeighted)/1000x3000/", "1x", count))
     numpy = {}
     for t, n in [(250, 500), (500, 1000), (1000, 3000)]:
         x = bench_numpy.bench_matrix(t, n)
@@ -61,7 +61,7 @@ def main():
     print(f"{'benchmark':28s} {'ms':>9s} {'GFLOP/s':>8s} {'%peak':>6s} {'MB/op':>7s} {'numpy/this':>10s}")
     for k in sorted(k for k in med if not k.startswith("Peak/")):
         ms, gf, mem = med[k]
-        size = "/".join(k.split("/")[:2])
+        size = "/".join(k.split("/")[:2]).replace("XtWXWeighted", "XtX")
         ratio = f"{numpy[size] / ms:10.2f}" if size in numpy else ""
         print(f"{k:28s} {ms:9.2f} {gf:8.2f} {100 * gf / peak:6.1f} {mem / 1e6:7.1f} {ratio}")
     for k, ms in numpy.items():
