@@ -86,6 +86,9 @@ type crossSolver struct {
 	caps  []float64 // per sector
 	count []int
 	rows  []int
+	y, w  []float64
+	abuf  []float64 // weighted reduced design, reused across dates
+	ybuf  []float64
 }
 
 func newCrossSolver(p *exposureSpec) *crossSolver {
@@ -106,8 +109,10 @@ func (c *crossSolver) solve(x mat.Matrix, t int, reg *Regression) error {
 	clear(c.caps)
 	clear(c.count)
 	c.rows = c.rows[:0]
-	y := make([]float64, 0, p.n)
-	w := make([]float64, 0, p.n)
+	if c.y == nil {
+		c.y, c.w = make([]float64, 0, p.n), make([]float64, 0, p.n)
+	}
+	y, w := c.y[:0], c.w[:0]
 	for j := 0; j < p.n; j++ {
 		r, cp := x.At(t, j), p.caps(t, j)
 		if math.IsInf(r, 0) {
@@ -144,12 +149,17 @@ func (c *crossSolver) solve(x mat.Matrix, t int, reg *Regression) error {
 	if s == 0 {
 		off = 0
 	}
-	a := mat.NewDense(n, np, nil)
-	yw := mat.NewVecDense(n, nil)
+	if cap(c.abuf) < n*np {
+		c.abuf = make([]float64, p.n*np)
+		c.ybuf = make([]float64, p.n)
+	}
+	a := mat.NewDense(n, np, c.abuf[:n*np])
+	yw := mat.NewVecDense(n, c.ybuf[:n])
 	for i, j := range c.rows {
 		sw := math.Sqrt(w[i])
 		row := a.RawRowView(i)
 		ej := c.e.RawRowView(j)
+		clear(row)
 		row[0] = sw
 		if q := p.sector[j]; s == 0 {
 		} else if q == last {
@@ -202,7 +212,10 @@ func (c *crossSolver) solve(x mat.Matrix, t int, reg *Regression) error {
 	spec := reg.SpecificReturns.RawRowView(t)
 	var ssr, sw, swy float64
 	for i, j := range c.rows {
-		fit := mat.Dot(c.e.RowView(j), mat.NewVecDense(k, f))
+		var fit float64
+		for h, v := range c.e.RawRowView(j) {
+			fit += v * f[h]
+		}
 		u := y[i] - fit
 		spec[j] = u
 		ssr += w[i] * u * u
