@@ -6,222 +6,344 @@ import (
 	"fmt"
 	"io"
 	"log/slog"
+	"math"
 	"os"
 	"path/filepath"
 	"strings"
 	"time"
 
 	"github.com/riskmodel/riskmodel"
+	"github.com/riskmodel/riskmodel/ewma"
+	"github.com/riskmodel/riskmodel/factor"
+	"github.com/riskmodel/riskmodel/shrink"
 )
 
 // Exit statuses.
 const (
 	exitOK       = 0
-	exitFailure  = 1 // an unexpected failure of the job itself
-	exitBadInput = 2 // bad flags or bad input files
+	exitFailure  = 1 // an unexpected failure of the job itself; nothing published
+	exitBadInput = 2 // bad flags or bad input files; nothing published
 )
 
-// Default input files, relative to the repository root.
-var (
-	defaultReturns = filepath.Join("testdata", "demo", "returns.parquet")
-	defaultAssets  = filepath.Join("testdata", "demo", "assets.csv")
-)
-
-// config is the job's settings, from its flags.
-type config struct {
-	returns, assets string
-	asof            riskmodel.Date
-	hasAsof         bool
-	window, minObs  int
-}
-
-// badInput marks an error caused by the user's flags or files.
-type badInput struct{ err error }
-
-func (e badInput) Error() string { return e.err.Error() }
-func (e badInput) Unwrap() error { return e.err }
+// steps names the job's steps for the progress bar.
+var steps = []string{"read", "quality", "build", "validate", "compare", "dense", "publish"}
 
 // run is the whole program; it returns the exit status.
 func run(args []string, stdout, stderr io.Writer) int {
-	log := slog.New(slog.NewTextHandler(stderr, nil))
 	cfg, err := parseFlags(args, stderr)
 	if errors.Is(err, flag.ErrHelp) {
 		return exitOK
 	}
+	bar := newProgress(stderr, len(steps))
+	log := newLogger(bar, cfg.logFormat)
 	if err == nil {
-		err = job(cfg, stdout, log)
+		err = job(cfg, stdout, log, bar)
 	}
+	bar.done()
 	if err == nil {
 		return exitOK
 	}
-	fmt.Fprintf(stderr, "nightly: %s\n", oneLine(err.Error()))
+	log.Error("nightly: " + oneLine(err.Error()) + "; nothing published")
 	if errors.As(err, new(badInput)) {
 		return exitBadInput
 	}
 	return exitFailure
 }
 
-// parseFlags reads the flags; the default files are looked up from the
-// repository root, found by walking up from the working directory to go.mod.
-func parseFlags(args []string, stderr io.Writer) (config, error) {
-	var cfg config
-	fs := flag.NewFlagSet("nightly", flag.ContinueOnError)
-	fs.SetOutput(stderr)
-	fs.Usage = func() {
-		fmt.Fprintf(stderr, "Usage: nightly [flags]\n\nLoads a return history and asset metadata, validates them and prints a\ndata-quality summary. Without flags it uses the bundled demo market.\n\nFlags:\n")
-		fs.PrintDefaults()
+func newLogger(w io.Writer, format string) *slog.Logger {
+	if format == "json" {
+		return slog.New(slog.NewJSONHandler(w, nil))
 	}
-	fs.StringVar(&cfg.returns, "returns", "", "return file: long Parquet, or long or wide CSV (default <repository>/"+defaultReturns+")")
-	fs.StringVar(&cfg.assets, "assets", "", "asset metadata file, CSV or Parquet (default <repository>/"+defaultAssets+")")
-	asof := fs.String("asof", "", "last date of the window, YYYY-MM-DD (default the last date of the file)")
-	fs.IntVar(&cfg.window, "window", 0, "number of dates in the window up to -asof; 0 means all")
-	fs.IntVar(&cfg.minObs, "min-obs", 60, "assets with fewer observations in the window are listed as dropped")
-	if err := fs.Parse(args); err != nil {
-		if errors.Is(err, flag.ErrHelp) {
-			return cfg, err
-		}
-		return cfg, badInput{err}
-	}
-	if fs.NArg() > 0 {
-		return cfg, badInput{fmt.Errorf("unexpected argument %q", fs.Arg(0))}
-	}
-	if *asof != "" {
-		d, err := riskmodel.ParseDate(*asof)
-		if err != nil {
-			return cfg, badInput{fmt.Errorf("-asof: %w", err)}
-		}
-		cfg.asof, cfg.hasAsof = d, true
-	}
-	if cfg.window < 0 {
-		return cfg, badInput{fmt.Errorf("-window must not be negative, got %d", cfg.window)}
-	}
-	if cfg.minObs < 0 {
-		return cfg, badInput{fmt.Errorf("-min-obs must not be negative, got %d", cfg.minObs)}
-	}
-	if cfg.returns == "" || cfg.assets == "" {
-		wd, err := os.Getwd()
-		if err != nil {
-			return cfg, err
-		}
-		root, err := findRoot(wd)
-		if err != nil {
-			return cfg, badInput{fmt.Errorf("%w; give -returns and -assets", err)}
-		}
-		if cfg.returns == "" {
-			cfg.returns = filepath.Join(root, defaultReturns)
-		}
-		if cfg.assets == "" {
-			cfg.assets = filepath.Join(root, defaultAssets)
-		}
-	}
-	return cfg, nil
+	return slog.New(slog.NewTextHandler(w, nil))
 }
 
-// findRoot returns the nearest directory at or above dir holding go.mod.
-func findRoot(dir string) (string, error) {
-	for {
-		if _, err := os.Stat(filepath.Join(dir, "go.mod")); err == nil {
-			return dir, nil
-		}
-		parent := filepath.Dir(dir)
-		if parent == dir {
-			return "", errors.New("no go.mod in the working directory or above it")
-		}
-		dir = parent
-	}
+// inputs are the files the job read.
+type inputs struct {
+	panel                *riskmodel.Panel
+	assets               []riskmodel.AssetInfo
+	portfolio, benchmark []riskmodel.Holding
 }
 
-// job loads and checks the inputs and prints the summary.
-func job(cfg config, stdout io.Writer, log *slog.Logger) error {
+// job runs the steps in order; the first error stops it before publishing.
+func job(cfg config, stdout io.Writer, log *slog.Logger, bar *progress) error {
 	start := time.Now()
-	panel, err := riskmodel.ReadReturns(cfg.returns, nil)
+	bar.step("read")
+	in, err := readInputs(cfg, log)
 	if err != nil {
-		return badInput{err}
+		return err
 	}
-	t, n := panel.Dims()
-	log.Info("read returns", "file", cfg.returns, "dates", t, "assets", n, "elapsed", time.Since(start).Round(time.Millisecond))
-	assets, err := riskmodel.ReadAssets(cfg.assets)
-	if err != nil {
-		return badInput{err}
-	}
-	log.Info("read assets", "file", cfg.assets, "assets", len(assets))
-	asof := panel.Date(t - 1)
+	t, _ := in.panel.Dims()
+	asof := in.panel.Date(t - 1)
 	if cfg.hasAsof {
 		asof = cfg.asof
 	}
-	win, err := panel.Window(asof, cfg.window)
+	bar.step("quality")
+	if err := quality(cfg, in, asof, stdout, log); err != nil {
+		return err
+	}
+	store := riskmodel.Store{Dir: cfg.out}
+	prev := previous(store, log)
+	bar.step("build")
+	m, err := build(cfg, in, asof, prev, log)
 	if err != nil {
-		return badInput{fmt.Errorf("-asof %s: %w (the file starts on %s)", asof, err, panel.Date(0))}
+		return err
 	}
-	q := riskmodel.Quality(win, &riskmodel.QualityOptions{MinObs: cfg.minObs})
-	m := matchAssets(win, assets)
-	for _, a := range m.noMeta {
-		log.Warn("asset has returns but no metadata", "asset", a)
+	bar.step("validate")
+	if err := validate(cfg, in, m, stdout, log); err != nil {
+		return err
 	}
-	printSummary(stdout, asof, q, m)
-	log.Info("done", "elapsed", time.Since(start).Round(time.Millisecond))
+	bar.step("compare")
+	if prev != nil {
+		if err := compare(in, prev, m, stdout, log); err != nil {
+			return err
+		}
+	}
+	bar.step("dense")
+	if cfg.dense != "" {
+		if err := writeDense(cfg.dense, m, log); err != nil {
+			return err
+		}
+	}
+	bar.step("publish")
+	log.Info("writing model", "store", cfg.out, "asof", m.AsOf.String(), "assets", len(m.Assets))
+	dir, err := store.Publish(m)
+	if err != nil {
+		return err
+	}
+	log.Info("published", "model", dir, "elapsed", since(start))
+	fmt.Fprintf(stdout, "Published %s model as of %s for %d assets to %s\n", m.Method, m.AsOf, len(m.Assets), dir)
 	return nil
 }
 
-// metaMatch compares the panel's assets with the metadata file's.
-type metaMatch struct {
-	meta    int      // assets in the metadata file
-	noMeta  []string // assets with returns and no metadata
-	noRets  int      // assets in the metadata file without a column in the panel
-	sectors int      // distinct sectors of the panel's assets
+func readInputs(cfg config, log *slog.Logger) (*inputs, error) {
+	start := time.Now()
+	var in inputs
+	var err error
+	if in.panel, err = riskmodel.ReadReturns(cfg.returns, nil); err != nil {
+		return nil, badInput{err}
+	}
+	t, n := in.panel.Dims()
+	if t == 0 || n == 0 {
+		return nil, badInput{fmt.Errorf("%s: %w: %d dates and %d assets", cfg.returns, riskmodel.ErrEmpty, t, n)}
+	}
+	log.Info("read returns", "file", cfg.returns, "dates", t, "assets", n, "elapsed", since(start))
+	if in.assets, err = riskmodel.ReadAssets(cfg.assets); err != nil {
+		return nil, badInput{err}
+	}
+	log.Info("read assets", "file", cfg.assets, "assets", len(in.assets))
+	if cfg.portfolio != "" {
+		if in.portfolio, err = riskmodel.ReadHoldings(cfg.portfolio); err != nil {
+			return nil, badInput{err}
+		}
+		if in.benchmark, err = riskmodel.ReadHoldings(cfg.benchmark); err != nil {
+			return nil, badInput{err}
+		}
+		log.Info("read holdings", "portfolio", cfg.portfolio, "names", len(in.portfolio), "benchmark", cfg.benchmark, "benchmark_names", len(in.benchmark))
+	}
+	return &in, nil
 }
 
-func matchAssets(p *riskmodel.Panel, assets []riskmodel.AssetInfo) metaMatch {
-	m := metaMatch{meta: len(assets)}
-	sector := make(map[string]string, len(assets))
-	for _, a := range assets {
-		sector[a.Asset] = a.Sector
-		if _, ok := p.Column(a.Asset); !ok {
-			m.noRets++
-		}
+func quality(cfg config, in *inputs, asof riskmodel.Date, stdout io.Writer, log *slog.Logger) error {
+	win, err := in.panel.Window(asof, cfg.build.Window)
+	if err != nil {
+		return badInput{fmt.Errorf("-asof %s: %w (the file starts on %s)", asof, err, in.panel.Date(0))}
 	}
-	seen := make(map[string]bool)
-	for _, a := range p.Assets() {
-		s, ok := sector[a]
-		if !ok {
-			m.noMeta = append(m.noMeta, a)
-			continue
-		}
-		if !seen[s] {
-			seen[s] = true
-			m.sectors++
-		}
+	minObs := cfg.build.MinObs
+	if minObs == 0 {
+		t, _ := win.Dims()
+		minObs = max(2, t/2) // Build's default
 	}
-	return m
+	q := riskmodel.Quality(win, &riskmodel.QualityOptions{MinObs: minObs})
+	mm := matchAssets(win, in.assets)
+	for _, a := range mm.noMeta[:min(listMax, len(mm.noMeta))] {
+		log.Warn("asset has returns but no metadata", "asset", a)
+	}
+	log.Info("data quality", "dates", q.Dates, "assets", q.Assets, "coverage", round(q.Coverage, 4),
+		"implausible", len(q.Implausible), "outliers", len(q.Outliers), "stale_runs", len(q.StaleRuns), "too_few_obs", len(q.Dropped))
+	printSummary(stdout, asof, q, mm)
+	return nil
 }
 
-// listMax bounds the examples printed under each count.
-const listMax = 5
+// previous returns the store's current model, or nil when there is none or
+// it cannot be read (then the new model is built without alignment, and the
+// log says why).
+func previous(store riskmodel.Store, log *slog.Logger) *riskmodel.Model {
+	prev, err := store.LoadCurrent()
+	switch {
+	case errors.Is(err, riskmodel.ErrNoCurrent):
+		log.Info("no current model in the store: first publication", "store", store.Dir)
+		return nil
+	case err != nil:
+		log.Warn("current model unreadable: building without it", "store", store.Dir, "error", oneLine(err.Error()))
+		return nil
+	}
+	log.Info("previous model", "asof", prev.AsOf.String(), "method", prev.Method, "assets", len(prev.Assets))
+	return prev
+}
 
-func printSummary(w io.Writer, asof riskmodel.Date, q *riskmodel.QualityReport, m metaMatch) {
-	o := q.Options
-	fmt.Fprintf(w, "Data quality as of %s: %d dates from %s to %s\n", asof, q.Dates, q.First, q.Last)
-	fmt.Fprintf(w, "  assets          %d in %d sectors (metadata for %d; %d without metadata; %d in metadata without returns)\n",
-		q.Assets, m.sectors, m.meta, len(m.noMeta), m.noRets)
-	fmt.Fprintf(w, "  coverage        %.2f %% of %d date-asset cells observed\n", 100*q.Coverage, q.Dates*q.Assets)
-	fmt.Fprintf(w, "  missing share   %.3f %% inside assets' lives (%d missing days)\n", 100*q.MissingShare, q.Gaps)
-	fmt.Fprintf(w, "  listings        %d assets start after %s\n", len(q.Listings), q.First)
-	fmt.Fprintf(w, "  delistings      %d assets end before %s\n", len(q.Delistings), q.Last)
-	fmt.Fprintf(w, "  implausible     %d returns above %g\n", len(q.Implausible), o.ImplausibleLimit)
-	for _, x := range q.Implausible[:min(listMax, len(q.Implausible))] {
-		fmt.Fprintf(w, "                  %s %s %.4f\n", x.Asset, x.Date, x.Return)
+func build(cfg config, in *inputs, asof riskmodel.Date, prev *riskmodel.Model, log *slog.Logger) (*riskmodel.Model, error) {
+	start := time.Now()
+	o := cfg.build
+	o.Groups = make(map[string]string, len(in.assets))
+	for _, a := range in.assets {
+		o.Groups[a.Asset] = a.Sector
 	}
-	fmt.Fprintf(w, "  outliers        %d returns beyond %g median absolute deviations (%d assets without spread)\n",
-		len(q.Outliers), o.OutlierMADs, len(q.NoSpread))
-	for _, x := range q.Outliers[:min(listMax, len(q.Outliers))] {
-		fmt.Fprintf(w, "                  %s %s %.4f (%.1f MADs)\n", x.Asset, x.Date, x.Return, x.Score)
+	if prev != nil && prev.PeriodsPerYear == in.panel.PeriodsPerYear() {
+		o.Previous = prev
 	}
-	fmt.Fprintf(w, "  stale runs      %d runs of %d or more zero returns\n", len(q.StaleRuns), o.StaleRun)
-	for _, x := range q.StaleRuns[:min(listMax, len(q.StaleRuns))] {
-		fmt.Fprintf(w, "                  %s %s to %s (%d days)\n", x.Asset, x.First, x.Last, x.Length)
+	m, rep, err := riskmodel.Build(in.panel, asof, &o)
+	if errors.Is(err, factor.ErrPrevious) && o.Previous != nil {
+		log.Warn("previous model does not fit for alignment: building without it", "error", oneLine(err.Error()))
+		o.Previous = nil
+		m, rep, err = riskmodel.Build(in.panel, asof, &o)
 	}
-	fmt.Fprintf(w, "  too few obs     %d assets with fewer than %d observations\n", len(q.Dropped), o.MinObs)
+	if err != nil {
+		if isDataError(err) {
+			return nil, badInput{err}
+		}
+		return nil, err
+	}
+	log.Info("built model", "method", m.Method, "asof", m.AsOf.String(), "start", rep.Start.String(), "dates", rep.Dates,
+		"assets", rep.Assets, "dropped", len(rep.Dropped), "elapsed", since(start))
+	for _, n := range rep.Notes {
+		log.Info("build note", "note", n)
+	}
+	return m, nil
+}
+
+// isDataError reports whether a Build error comes from the data or the
+// settings (bad input) rather than from the job.
+func isDataError(err error) bool {
+	for _, e := range []error{
+		riskmodel.ErrEmpty, riskmodel.ErrMethod,
+		factor.ErrNoObservations, factor.ErrEmptyDate, factor.ErrTooManyFactors, factor.ErrTooFewData, factor.ErrSettings,
+		ewma.ErrHalfLife, ewma.ErrLags, ewma.ErrTooFew, ewma.ErrAllMissing, ewma.ErrEffectiveObs, ewma.ErrZeroVariance,
+		shrink.ErrTooFewObs, shrink.ErrZeroVariance, shrink.ErrWeights, shrink.ErrBadParameter,
+	} {
+		if errors.Is(err, e) {
+			return true
+		}
+	}
+	return false
+}
+
+// validate runs riskmodel.Validate with the benchmark as the universe and the
+// trailing window's returns for the bias statistic of the test portfolio
+// (active weights against the benchmark; equal weights without holdings).
+// A structural failure, a condition number above the maximum or too little
+// benchmark weight covered stops the job; a bias statistic outside its
+// approximate band is a warning, since the window overlaps the fit.
+func validate(cfg config, in *inputs, m *riskmodel.Model, stdout io.Writer, log *slog.Logger) error {
+	start := time.Now()
+	trail, err := in.panel.Window(m.AsOf, cfg.biasWindow)
+	if err != nil {
+		return badInput{err}
+	}
+	opts := &riskmodel.ValidateOptions{MaxCondition: cfg.maxCondition, Returns: trail}
+	var bench map[string]float64
+	if in.benchmark != nil {
+		bench = riskmodel.HoldingsMap(in.benchmark)
+		for _, h := range in.benchmark {
+			opts.Universe = append(opts.Universe, h.Asset)
+		}
+		opts.Portfolio = map[string]float64{}
+		covered := map[string]bool{}
+		for _, a := range m.Assets {
+			covered[a] = true
+		}
+		for a, w := range riskmodel.ActiveWeights(in.portfolio, in.benchmark) {
+			if covered[a] {
+				opts.Portfolio[a] = w
+			}
+		}
+	}
+	v := riskmodel.Validate(m, opts)
+	for _, p := range v.Problems {
+		log.Warn("validation", "problem", p)
+	}
+	var uncovered float64
+	for _, a := range v.Uncovered {
+		uncovered += math.Abs(bench[a])
+	}
+	var total float64
+	for _, w := range bench {
+		total += math.Abs(w)
+	}
+	coverage := 1.0
+	if total > 0 {
+		coverage = 1 - uncovered/total
+	}
+	attrs := []any{"positive_definite", v.PositiveDefinite, "condition", fmt.Sprintf("%.4g", v.Condition), "benchmark_weight_covered", round(coverage, 6),
+		"elapsed", since(start)}
+	if v.Bias != nil {
+		attrs = append(attrs, "bias", round(v.Bias.Value, 4), "bias_band", fmt.Sprintf("[%.3f, %.3f]", v.Bias.Lower, v.Bias.Upper))
+	}
+	log.Info("validated model", attrs...)
+	printValidation(stdout, v, coverage, len(bench) > 0)
+	switch {
+	case !v.Finite:
+		return errors.New("model failed validation: the covariance has a non-finite element")
+	case !v.PositiveDefinite || !(v.MinEigenvalue > 0):
+		return errors.New("model failed validation: the covariance is not positive definite; try a shrinkage -method or a longer -window")
+	case v.Condition > cfg.maxCondition:
+		return fmt.Errorf("model failed validation: condition number %.3g is above -max-condition %.3g; try a shrinkage -method", v.Condition, cfg.maxCondition)
+	case coverage < cfg.minCoverage:
+		return fmt.Errorf("model failed validation: it covers %.2f %% of the benchmark's weight, below -min-coverage %.2f %% (%d names missing, first %s); lower -min-obs or -min-coverage",
+			100*coverage, 100*cfg.minCoverage, len(v.Uncovered), v.Uncovered[0])
+	}
+	return nil
+}
+
+func compare(in *inputs, prev, m *riskmodel.Model, stdout io.Writer, log *slog.Logger) error {
+	opts := &riskmodel.CompareOptions{Top: 5}
+	if in.portfolio != nil {
+		opts.Portfolio = riskmodel.HoldingsMap(in.portfolio)
+		opts.Benchmark = riskmodel.HoldingsMap(in.benchmark)
+	}
+	c, err := riskmodel.Compare(prev, m, opts)
+	if err != nil {
+		return badInput{fmt.Errorf("test portfolio: %w", err)}
+	}
+	attrs := []any{"previous", c.Previous.String(), "common", c.Common, "added", c.Added, "removed", c.Removed}
+	if c.Angles != nil {
+		attrs = append(attrs, "max_angle_degrees", round(c.MaxAngle()*180/math.Pi, 2))
+	}
+	if c.HasTE {
+		attrs = append(attrs, "te_previous", round(c.TEPrevious, 6), "te_current", round(c.TECurrent, 6))
+	}
+	if len(c.Changes) > 0 {
+		x := c.Changes[0]
+		attrs = append(attrs, "largest_"+c.RiskKind+"_risk_change", x.Asset, "from", round(x.Previous, 4), "to", round(x.Current, 4))
+	}
+	log.Info("compared with previous model", attrs...)
+	printComparison(stdout, c)
+	return nil
+}
+
+// writeDense writes the dense covariance next to its final name and renames
+// it, so that a reader never sees half a file.
+func writeDense(path string, m *riskmodel.Model, log *slog.Logger) error {
+	start := time.Now()
+	tmp := filepath.Join(filepath.Dir(path), "."+filepath.Base(path)+".partial")
+	if err := riskmodel.SaveDenseCSV(tmp, m); err != nil {
+		os.Remove(tmp)
+		return fmt.Errorf("-dense: %w", err)
+	}
+	if err := os.Rename(tmp, path); err != nil {
+		os.Remove(tmp)
+		return fmt.Errorf("-dense: %w", err)
+	}
+	log.Info("wrote dense covariance", "file", path, "assets", len(m.Assets), "elapsed", since(start))
+	return nil
+}
+
+func round(x float64, digits int) float64 {
+	p := math.Pow(10, float64(digits))
+	return math.Round(x*p) / p
 }
 
 // oneLine keeps an error message on one line.
 func oneLine(s string) string { return strings.Join(strings.Fields(s), " ") }
+
+// since is the time from start, for the log, rounded to milliseconds.
+func since(start time.Time) string { return time.Since(start).Round(time.Millisecond).String() }

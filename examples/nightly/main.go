@@ -1,12 +1,39 @@
-// Command nightly is the project's main job. This first version loads a
-// return history and asset metadata (by default the bundled invented demo
-// market), validates them and prints a data-quality summary.
+// Command nightly is the project's rebuild job: it reads a return history and
+// asset metadata, checks their quality, builds a risk model, validates it,
+// compares it with the model published the night before and publishes it
+// atomically to a model store. Without flags it runs on the bundled invented
+// demo market and publishes to riskmodel-store under the operating system's
+// temporary folder (os.TempDir), so a fresh clone needs no set-up and nothing
+// is written into the repository.
 //
 // Usage:
 //
-//	go run ./examples/nightly [-returns FILE] [-assets FILE] [-asof YYYY-MM-DD] [-window N] [-min-obs N]
+//	go run ./examples/nightly [flags]
+//	go run ./examples/nightly -h      # every flag with its default
 //
-// It exits with status 2 and a one-line reason on bad input.
+// The steps, each logged through log/slog on stderr (text or JSON):
+//
+//  1. read the returns (Parquet or CSV), the asset metadata and, when given,
+//     the test portfolio and its benchmark (holdings files);
+//  2. the data-quality report of the window, printed on stdout;
+//  3. build the model (-method, by default the statistical factor model),
+//     with the store's current model as the previous one, so that factors keep
+//     their order and sign;
+//  4. validate it: finite, positive definite, condition number, coverage of
+//     the benchmark's weight, and the bias statistic of the test portfolio's
+//     forecast over the trailing -bias-window dates;
+//  5. compare it with the current model: principal angles between the factor
+//     spaces, the largest changes in specific risk, the change in the test
+//     portfolio's tracking error;
+//  6. optionally write the dense N×N covariance as CSV (-dense);
+//  7. publish: a new dated folder, read back and checked, then made current by
+//     an atomic rename; a failure or a kill at any point leaves the previous
+//     current model as it was.
+//
+// Exit status: 0 published; 2 bad input (flags or files), nothing published;
+// 1 any other failure (a model that fails validation, a disk error), nothing
+// published. The last log line says why. A progress bar is drawn on stderr
+// only when stderr is a terminal.
 package main
 
 import "os"
