@@ -25,12 +25,15 @@ const (
 	MethodSingleIndex         = "single-index"         // toward a one-factor market model (Ledoit & Wolf 2003)
 	MethodSchaferStrimmer     = "schafer-strimmer"     // correlations and variances shrunk separately
 	MethodNonlinear           = "nonlinear"            // analytical nonlinear shrinkage (Ledoit & Wolf 2020)
+	MethodExposure            = "exposure"             // sector and style factors by cross-sectional regression
+	MethodHybrid              = "hybrid"               // exposure factors plus statistical factors of the residuals
 )
 
 // Methods lists every method name Build accepts, the default first.
 var Methods = []string{
 	MethodFactor, MethodSample, MethodEWMA, MethodLedoitWolf, MethodOAS,
 	MethodConstantCorrelation, MethodSingleIndex, MethodSchaferStrimmer, MethodNonlinear,
+	MethodExposure, MethodHybrid,
 }
 
 // Defaults of BuildOptions. The half-lives are common practice for daily
@@ -41,6 +44,11 @@ const (
 	DefaultVolHalfLife  = 63
 	DefaultCorrHalfLife = 126
 )
+
+// RepairCondition is the condition number to which Build caps a pairwise
+// ewma or sample estimate that needed a repair to be positive semidefinite,
+// a hundredth of DefaultMaxCondition so the result passes Validate with room.
+const RepairCondition = DefaultMaxCondition / 100
 
 // BuildOptions configure Build. A nil *BuildOptions, or a zero field, means
 // the documented default.
@@ -76,6 +84,13 @@ type BuildOptions struct {
 	// Previous, if set, is the previous model whose factors the new ones are
 	// rotated onto, so that factors keep their order and sign.
 	Previous *Model
+
+	// Sectors and MarketCaps give each asset's sector and market cap; the
+	// exposure and hybrid methods require them (asset metadata columns
+	// sector and market_cap) and drop, and report, assets that lack either.
+	// The hybrid method adds Factors statistical factors (default 3).
+	Sectors    map[string]string
+	MarketCaps map[string]float64
 }
 
 // BuildReport says what Build did to the data and the estimate.
@@ -88,7 +103,10 @@ type BuildReport struct {
 	Dropped    []Coverage // assets dropped for too few observations, with their coverage
 	Missing    int        // missing cells of the window's returns for the kept assets
 	Imputed    int        // missing cells filled with the asset's window mean (shrinkage methods)
-	Notes      []string   // the same facts as the model's Notes
+	// Unclassified lists assets the exposure and hybrid methods dropped for
+	// a missing sector or market cap.
+	Unclassified []string
+	Notes        []string // the same facts as the model's Notes
 }
 
 // ErrMethod reports an unknown method name.
@@ -119,6 +137,15 @@ func Build(p *Panel, asof Date, opts *BuildOptions) (*Model, *BuildReport, error
 		minObs = max(2, len(win.dates)/2)
 	}
 	win, dropped := win.DropSparse(minObs)
+	var unclassified []string
+	if o.Method == MethodExposure || o.Method == MethodHybrid {
+		win, unclassified = keepClassified(win, o)
+		// The regressions start after the styles' look-back: an asset also
+		// needs observations there.
+		var late []Coverage
+		win, late = win.dropSparseAfter(factor.ExposureSettings{}.Lookback(), 2)
+		dropped = append(dropped, late...)
+	}
 	t, n := win.Dims()
 	if t < 2 || n < 1 {
 		return nil, nil, fmt.Errorf("riskmodel: build: %w: %d dates and %d assets with at least %d observations up to %s",
@@ -130,6 +157,10 @@ func Build(p *Panel, asof Date, opts *BuildOptions) (*Model, *BuildReport, error
 	}
 	if len(dropped) > 0 {
 		rep.Notes = append(rep.Notes, fmt.Sprintf("%d assets dropped for fewer than %d observations in the window", len(dropped), minObs))
+	}
+	if len(unclassified) > 0 {
+		rep.Unclassified = unclassified
+		rep.Notes = append(rep.Notes, fmt.Sprintf("%d assets dropped for a missing sector or market cap, first %s", len(unclassified), unclassified[0]))
 	}
 	m := &Model{
 		AsOf:           asof,
@@ -143,6 +174,8 @@ func Build(p *Panel, asof Date, opts *BuildOptions) (*Model, *BuildReport, error
 		err = buildFactor(m, win, o, rep)
 	case MethodSample, MethodEWMA:
 		err = buildEWMA(m, win, o, rep)
+	case MethodExposure, MethodHybrid:
+		err = buildExposure(m, win, o, rep)
 	default:
 		err = buildShrink(m, win, o, rep)
 	}
@@ -192,6 +225,15 @@ func (o BuildOptions) settings() map[string]string {
 		s["vol_half_life"] = f(o.VolHalfLife)
 		s["corr_half_life"] = f(o.CorrHalfLife)
 		s["newey_west_lags"] = strconv.Itoa(o.NeweyWestLags)
+	case MethodExposure, MethodHybrid:
+		s["vol_half_life"] = f(o.VolHalfLife)
+		s["corr_half_life"] = f(o.CorrHalfLife)
+		s["specific_half_life"] = f(o.SpecificHalfLife)
+		s["newey_west_lags"] = strconv.Itoa(o.NeweyWestLags)
+		if o.Method == MethodHybrid {
+			s["factors"] = strconv.Itoa(o.hybridFactors())
+			s["seed"] = strconv.FormatUint(o.Seed, 10)
+		}
 	case MethodSample:
 	default:
 		if o.ShrinkHalfLife > 0 {
@@ -252,6 +294,76 @@ func buildFactor(m *Model, win *Panel, o BuildOptions, rep *BuildReport) error {
 	return nil
 }
 
+// keepClassified drops the assets with no sector or no positive, finite
+// market cap, which the exposure regressions cannot place.
+func keepClassified(win *Panel, o BuildOptions) (*Panel, []string) {
+	var keep []int
+	var dropped []string
+	for j, a := range win.assets {
+		c, ok := o.MarketCaps[a]
+		if o.Sectors[a] != "" && ok && c > 0 && !math.IsInf(c, 0) {
+			keep = append(keep, j)
+		} else {
+			dropped = append(dropped, a)
+		}
+	}
+	if keep == nil {
+		keep = []int{}
+	}
+	return win.Select(keep), dropped
+}
+
+// hybridFactors is the number of statistical factors of the hybrid method.
+func (o BuildOptions) hybridFactors() int {
+	if o.Factors > 0 {
+		return o.Factors
+	}
+	return 3
+}
+
+func buildExposure(m *Model, win *Panel, o BuildOptions, rep *BuildReport) error {
+	s := factor.ExposureSettings{
+		Sectors:          make([]string, len(m.Assets)),
+		StaticCaps:       make([]float64, len(m.Assets)),
+		Covariance:       ewma.Settings{VolHalfLife: o.VolHalfLife, CorrHalfLife: o.CorrHalfLife, NeweyWestLags: o.NeweyWestLags},
+		SpecificHalfLife: o.SpecificHalfLife,
+		Assets:           m.Assets,
+	}
+	for i, a := range m.Assets {
+		s.Sectors[i] = o.Sectors[a]
+		s.StaticCaps[i] = o.MarketCaps[a]
+	}
+	if o.Groups != nil {
+		s.Groups = make([]string, len(m.Assets))
+		for i, a := range m.Assets {
+			s.Groups[i] = o.Groups[a]
+		}
+	}
+	var f *factor.Model
+	var reg *factor.Regression
+	var err error
+	if o.Method == MethodHybrid {
+		f, reg, err = factor.FitHybrid(win.r, s, factor.HybridSettings{K: o.hybridFactors(), Seed: o.Seed})
+	} else {
+		f, reg, err = factor.FitExposure(win.r, s)
+	}
+	if err != nil {
+		return err
+	}
+	minR2, maxCond := math.Inf(1), 0.0
+	for _, cs := range reg.Dates {
+		minR2 = min(minR2, cs.R2)
+		maxCond = max(maxCond, cs.Cond)
+	}
+	rep.Notes = append(rep.Notes, fmt.Sprintf("%d factors from %d cross-sectional regressions (from %s; lowest R² %.3f, largest condition number %.3g)",
+		f.NumFactors(), len(reg.Dates), win.dates[reg.First], minR2, maxCond))
+	if sp := f.Info().Specific; sp.Floored > 0 {
+		rep.Notes = append(rep.Notes, fmt.Sprintf("%d specific variances raised to the floor %.3g", sp.Floored, sp.Floor))
+	}
+	m.Factor = f
+	return nil
+}
+
 func buildEWMA(m *Model, win *Panel, o BuildOptions, rep *BuildReport) error {
 	dst := mat.NewSymDense(len(m.Assets), nil)
 	var r *ewma.Report
@@ -269,7 +381,18 @@ func buildEWMA(m *Model, win *Panel, o BuildOptions, rep *BuildReport) error {
 		return err
 	}
 	if r.Repair != nil {
-		rep.Notes = append(rep.Notes, fmt.Sprintf("pairwise estimate repaired to be positive semidefinite: %+v", *r.Repair))
+		// The pairwise repair clips negative eigenvalues to zero, which
+		// leaves a singular matrix an optimizer cannot invert: raise the
+		// smallest eigenvalues so the condition number is at most
+		// RepairCondition, and report both steps.
+		rep.Notes = append(rep.Notes, fmt.Sprintf("pairwise estimate had %d negative eigenvalues (smallest %.3g), clipped to zero",
+			r.Repair.Clipped, r.Repair.MinEigenvalue))
+		_, fix, err := shrink.CapCondition(dst, dst, RepairCondition)
+		if err != nil {
+			return err
+		}
+		rep.Notes = append(rep.Notes, fmt.Sprintf("then %d eigenvalues raised to cap the condition number at %.0e (largest shift %.3g)",
+			fix.Changed, RepairCondition, fix.MaxShift))
 	}
 	m.Dense = dst
 	return nil

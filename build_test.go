@@ -21,13 +21,19 @@ func TestBuildEveryMethodGivesAValidModel(t *testing.T) {
 	p := demo.Panel
 	tt, _ := p.Dims()
 	asof := p.Date(tt - 1)
+	sectors, caps := map[string]string{}, map[string]float64{}
+	for _, a := range demo.Assets {
+		sectors[a.Asset], caps[a.Asset] = a.Sector, a.MarketCap
+	}
 	for _, method := range Methods {
 		t.Run(method, func(t *testing.T) {
-			m, rep, err := Build(p, asof, &BuildOptions{Method: method, Window: 250, Factors: 4})
+			// 300 dates leave 48 regressions after the exposure model's
+			// one-year momentum look-back.
+			m, rep, err := Build(p, asof, &BuildOptions{Method: method, Window: 300, Factors: 4, Sectors: sectors, MarketCaps: caps})
 			require.NoError(t, err)
 			require.Equal(t, method, m.Method)
 			require.Equal(t, rep.Assets, len(m.Assets))
-			require.Equal(t, 250, rep.Dates)
+			require.Equal(t, 300, rep.Dates)
 			v := Validate(m, &ValidateOptions{Universe: m.Assets})
 			require.True(t, v.PositiveDefinite, "%v", v.Problems)
 			require.True(t, v.Finite)
@@ -35,7 +41,7 @@ func TestBuildEveryMethodGivesAValidModel(t *testing.T) {
 			// Every estimator keeps the total variance near the sample's: the
 			// linear shrinkages preserve the trace exactly, the others move it
 			// by the weighting or the imputation of missing returns.
-			sample, _, err := Build(p, asof, &BuildOptions{Method: MethodSample, Window: 250})
+			sample, _, err := Build(p, asof, &BuildOptions{Method: MethodSample, Window: 300})
 			require.NoError(t, err)
 			var tr, trSample float64
 			for i := range m.Assets {
@@ -48,9 +54,9 @@ func TestBuildEveryMethodGivesAValidModel(t *testing.T) {
 				// Shrinking toward μI with μ = tr(S)/N keeps tr(S) (Ledoit &
 				// Wolf 2004, section 2), S the divisor-T covariance of the
 				// mean-filled window.
-				win, err := p.Window(asof, 250)
+				win, err := p.Window(asof, 300)
 				require.NoError(t, err)
-				win, _ = win.DropSparse(125)
+				win, _ = win.DropSparse(150)
 				x := win.ReturnsTo(nil)
 				fillMeans(x)
 				rows, cols := x.Dims()
@@ -64,11 +70,33 @@ func TestBuildEveryMethodGivesAValidModel(t *testing.T) {
 				}
 				require.InDelta(t, 1, tr/trS, 1e-12)
 			}
-			if method != MethodFactor && method != MethodSample && method != MethodEWMA {
+			switch method {
+			case MethodFactor, MethodSample, MethodEWMA, MethodExposure, MethodHybrid:
+			default:
 				require.Equal(t, rep.Missing, rep.Imputed, "every missing return is filled for %s", method)
 			}
 		})
 	}
+}
+
+func TestBuildExposureDropsUnclassifiedAssets(t *testing.T) {
+	demo := smallDemo(t)
+	p := demo.Panel
+	sectors, caps := map[string]string{}, map[string]float64{}
+	for _, a := range demo.Assets {
+		sectors[a.Asset], caps[a.Asset] = a.Sector, a.MarketCap
+	}
+	delete(sectors, p.Asset(3))
+	caps[p.Asset(4)] = math.NaN()
+	m, rep, err := Build(p, p.Date(319), &BuildOptions{Method: MethodExposure, Window: 300, Sectors: sectors, MarketCaps: caps})
+	require.NoError(t, err)
+	require.Equal(t, []string{p.Asset(3), p.Asset(4)}, rep.Unclassified)
+	require.NotContains(t, m.Assets, p.Asset(3))
+	require.Equal(t, "exposure", m.Factor.Info().Method)
+	require.Equal(t, "market", m.Factor.FactorNames()[0])
+	// Without metadata nothing can be regressed.
+	_, _, err = Build(p, p.Date(319), &BuildOptions{Method: MethodHybrid, Window: 300})
+	require.ErrorIs(t, err, ErrEmpty)
 }
 
 func TestBuildIgnoresReturnsAfterAsOf(t *testing.T) {

@@ -373,6 +373,29 @@ func (p *Panel) Coverage() []Coverage {
 	return cov
 }
 
+// dropSparseAfter drops the assets with fewer than minObs observations in
+// rows from..T−1 and returns their coverage over the whole panel.
+func (p *Panel) dropSparseAfter(from, minObs int) (*Panel, []Coverage) {
+	if from >= len(p.dates) {
+		from = len(p.dates)
+	}
+	recent := p.Rows(from, len(p.dates)).Coverage()
+	all := p.Coverage()
+	var keep []int
+	var dropped []Coverage
+	for j, c := range recent {
+		if c.Count >= minObs {
+			keep = append(keep, j)
+		} else {
+			dropped = append(dropped, all[j])
+		}
+	}
+	if keep == nil {
+		keep = []int{}
+	}
+	return p.Select(keep), dropped
+}
+
 // DropSparse returns the panel without the assets that have fewer than minObs
 // non-missing returns, and the coverage of each asset it dropped, so that the
 // caller can report them.

@@ -188,7 +188,7 @@ func newExposureSpec(x mat.Matrix, s ExposureSettings) (*exposureSpec, error) {
 	if p.momW > 0 && p.momSkip >= p.momW {
 		return nil, badSetting("MomentumSkip = %d must be below MomentumWindow = %d", p.momSkip, p.momW)
 	}
-	p.first = max(p.volW, p.momW)
+	p.first = s.Lookback()
 	if t-p.first < 2 || n < 2 {
 		return nil, fmt.Errorf("%w: T = %d, N = %d; the styles' look-back takes %d dates and at least 2 must remain",
 			ErrTooFewData, t, n, p.first)
@@ -406,4 +406,12 @@ func (p *exposureSpec) model(b *mat.Dense, reg *Regression, method, reason strin
 		Specific:    sp,
 	}
 	return NewModel(b, f, spec, info)
+}
+
+// Lookback returns the number of dates the styles from returns need before
+// the first regression: max(VolatilityWindow, MomentumWindow) with their
+// defaults. Rows before it are not regressed, so an asset needs observations
+// after it to have a specific variance.
+func (s ExposureSettings) Lookback() int {
+	return max(defaultWindow(s.VolatilityWindow, 63), defaultWindow(s.MomentumWindow, 252))
 }
