@@ -43,7 +43,9 @@ type EvaluateMethod struct {
 type EvaluateOptions struct {
 	// Methods are the estimators to evaluate; nil means every name in
 	// Methods with Build's defaults (the factor model with Seed
-	// DefaultEvaluateSeed).
+	// DefaultEvaluateSeed), except the exposure and hybrid methods, which
+	// need asset metadata in their BuildOptions. Estimators are compared on
+	// the assets that every one of them keeps on a date.
 	Methods []EvaluateMethod
 	// Step is the number of dates between rebalance dates, and the length
 	// of each test period; default DefaultEvaluateStep.
@@ -300,6 +302,9 @@ func evaluateDefaults(p *Panel, opts *EvaluateOptions) (evaluateOptions, error) 
 	}
 	if o.Methods == nil {
 		for _, m := range Methods {
+			if m == MethodExposure || m == MethodHybrid {
+				continue
+			}
 			o.Methods = append(o.Methods, EvaluateMethod{Build: BuildOptions{Method: m, Seed: DefaultEvaluateSeed}})
 		}
 	} else {
@@ -406,12 +411,18 @@ func (ev *evaluator) date(q, r int) (*dateResult, error) {
 	}
 	var universe []string
 	if len(models) > 0 {
+		// Estimators that need metadata (exposure, hybrid) may drop assets
+		// the others keep: evaluate all on the assets common to every one.
 		universe = models[0].Assets
-		for k, m := range models[1:] {
-			if !slices.Equal(m.Assets, universe) {
-				return nil, fmt.Errorf("riskmodel: evaluate: %w: %s and %s cover different assets on %s",
-					ErrEvaluate, o.names[0], o.names[k+1], asof)
+		for _, m := range models[1:] {
+			have := make(map[string]bool, len(m.Assets))
+			for _, a := range m.Assets {
+				have[a] = true
 			}
+			universe = slices.DeleteFunc(slices.Clone(universe), func(a string) bool { return !have[a] })
+		}
+		for k, m := range models {
+			models[k] = restrictModel(m, universe)
 		}
 	} else {
 		// Only the oracle: the assets Build would keep.
@@ -492,7 +503,7 @@ func (ev *evaluator) date(q, r int) (*dateResult, error) {
 		refRet: portfolioReturns(test, bench),
 	}
 	ann := math.Sqrt(p.PeriodsPerYear())
-	res.period.ReferenceVol = stddev(res.refRet) * ann
+	res.period.ReferenceVol = evalStd(res.refRet) * ann
 	var sampleCov *mat.SymDense
 	if target != nil {
 		for k, m := range o.Methods {
@@ -598,7 +609,7 @@ func (ev *evaluator) weights(h []Holding, cols []int) []float64 {
 			w[i] += x.Weight
 		}
 	}
-	s := sum(w)
+	s := evalSum(w)
 	if s == 0 {
 		return nil
 	}
@@ -613,7 +624,7 @@ func portfolioReturns(x *mat.Dense, w []float64) []float64 {
 	t, _ := x.Dims()
 	out := make([]float64, t)
 	for d := range out {
-		out[d] = dot(x.RawRowView(d), w)
+		out[d] = evalDot(x.RawRowView(d), w)
 	}
 	return out
 }
@@ -629,12 +640,41 @@ func nanSeries(k int) []float64 {
 // subSym returns the submatrix of s on the given indexes.
 func subSym(s *mat.SymDense, idx []int) *mat.SymDense {
 	out := mat.NewSymDense(len(idx), nil)
+	raw, dst := s.RawSymmetric(), out.RawSymmetric()
 	for a, i := range idx {
 		for b := a; b < len(idx); b++ {
-			out.SetSym(a, b, s.At(i, idx[b]))
+			r, c := i, idx[b]
+			if r > c {
+				r, c = c, i
+			}
+			dst.Data[a*dst.Stride+b] = raw.Data[r*raw.Stride+c]
 		}
 	}
 	return out
+}
+
+// restrictModel returns m on the given assets, a subset of its own, in that
+// order; m itself when they are its assets already.
+func restrictModel(m *Model, assets []string) *Model {
+	if slices.Equal(m.Assets, assets) {
+		return m
+	}
+	pos := make(map[string]int, len(m.Assets))
+	for i, a := range m.Assets {
+		pos[a] = i
+	}
+	idx := make([]int, len(assets))
+	for i, a := range assets {
+		idx[i] = pos[a]
+	}
+	r := *m
+	r.Assets = assets
+	if m.Factor != nil {
+		r.Factor = m.Factor.Submodel(idx)
+	} else {
+		r.Dense = subSym(m.Dense, idx)
+	}
+	return &r
 }
 
 // invTrace returns tr(Σ⁻¹), NaN if Σ is not positive definite.

@@ -30,12 +30,12 @@ func (ev *Evaluation) WriteSVG(w io.Writer) error {
 	np := len(ev.Periods)
 	ymax := 0.0
 	for _, p := range ev.Periods {
-		ymax = math.Max(ymax, finiteOr(p.ReferenceVol, 0))
+		ymax = math.Max(ymax, evalFinite(p.ReferenceVol, 0))
 		for _, f := range p.Forecasts {
-			ymax = math.Max(ymax, finiteOr(f.Reference, 0))
+			ymax = math.Max(ymax, evalFinite(f.Reference, 0))
 		}
 	}
-	tick := niceStep(ymax / 5)
+	tick := evalTickStep(ymax / 5)
 	if tick == 0 {
 		tick = 0.01
 	}
@@ -101,8 +101,8 @@ func (ev *Evaluation) WriteSVG(w io.Writer) error {
 	return err
 }
 
-// niceStep rounds v up to 1, 2 or 5 times a power of ten.
-func niceStep(v float64) float64 {
+// evalTickStep rounds v up to 1, 2 or 5 times a power of ten.
+func evalTickStep(v float64) float64 {
 	if !(v > 0) {
 		return 0
 	}
@@ -115,7 +115,7 @@ func niceStep(v float64) float64 {
 	return 10 * p
 }
 
-func finiteOr(v, def float64) float64 {
+func evalFinite(v, def float64) float64 {
 	if math.IsNaN(v) || math.IsInf(v, 0) {
 		return def
 	}

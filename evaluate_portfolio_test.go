@@ -98,7 +98,7 @@ func TestSimplexQPConverges(t *testing.T) {
 		require.LessOrEqual(t, f-fstar, res.Gap+1e-14, "trial %d: the gap bounds the excess objective", trial)
 		require.InDelta(t, 0, f-fstar, 1e-6*mat.Inner(x, s, x), "trial %d", trial)
 		require.InDeltaSlice(t, want, w, 2e-3, "trial %d", trial)
-		require.InDelta(t, 1, sum(w), 1e-12)
+		require.InDelta(t, 1, evalSum(w), 1e-12)
 		for _, v := range w {
 			require.GreaterOrEqual(t, v, 0.0)
 		}
@@ -133,7 +133,7 @@ func TestMinVariancePortfolios(t *testing.T) {
 	for i := 3; i < 6; i++ {
 		require.Zero(t, w[i])
 	}
-	require.InDelta(t, 1, sum(w), 1e-12)
+	require.InDelta(t, 1, evalSum(w), 1e-12)
 }
 
 // The factor form and the dense form of the same covariance give the same
@@ -197,7 +197,7 @@ func TestRandomPortfolios(t *testing.T) {
 	rs := rand.New(rand.NewPCG(5, 5))
 	for _, n := range []int{1, 3, 80} {
 		w := randomLongOnly(rs, n)
-		require.InDelta(t, 1, sum(w), 1e-12)
+		require.InDelta(t, 1, evalSum(w), 1e-12)
 		held := 0
 		for _, v := range w {
 			require.GreaterOrEqual(t, v, 0.0)
@@ -210,7 +210,7 @@ func TestRandomPortfolios(t *testing.T) {
 	}
 	b := []float64{0.5, 0.3, 0.2}
 	a := randomActive(rs, b)
-	require.InDelta(t, 0, sum(a), 1e-12)
+	require.InDelta(t, 0, evalSum(a), 1e-12)
 	// Same seed, same draws.
 	x := randomLongOnly(rand.New(rand.NewPCG(9, 9)), 40)
 	y := randomLongOnly(rand.New(rand.NewPCG(9, 9)), 40)

@@ -35,7 +35,7 @@ func volInterval(x []float64) Interval {
 	if t < 2 {
 		return Interval{math.NaN(), math.NaN(), math.NaN()}
 	}
-	s := stddev(x)
+	s := evalStd(x)
 	chi := distuv.ChiSquared{K: float64(t - 1)}
 	a := (1 - EvaluateLevel) / 2
 	return Interval{
@@ -76,14 +76,14 @@ func biasOf(z []float64) Bias {
 	if t < 2 {
 		return b
 	}
-	b.Value = stddev(z)
+	b.Value = evalStd(z)
 	half := math.Sqrt(2 / float64(t))
 	b.Lower, b.Upper = 1-half, 1+half
 	b.Inside = b.Value >= b.Lower && b.Value <= b.Upper
 	return b
 }
 
-func stddev(x []float64) float64 {
+func evalStd(x []float64) float64 {
 	var mean float64
 	for _, v := range x {
 		mean += v
@@ -108,12 +108,14 @@ func stddev(x []float64) float64 {
 // 88(2):365–411, Section 2 (the norm) and Section 3.1 (the loss).
 func frobeniusLoss(est *mat.SymDense, truth *mat.SymDense) float64 {
 	n := truth.SymmetricDim()
+	e, t := est.RawSymmetric(), truth.RawSymmetric()
 	var s float64
 	for i := 0; i < n; i++ {
-		d := est.At(i, i) - truth.At(i, i)
+		er, tr := e.Data[i*e.Stride:i*e.Stride+n], t.Data[i*t.Stride:i*t.Stride+n]
+		d := er[i] - tr[i]
 		s += d * d
 		for j := i + 1; j < n; j++ {
-			d := est.At(i, j) - truth.At(i, j)
+			d := er[j] - tr[j]
 			s += 2 * d * d
 		}
 	}
@@ -135,18 +137,40 @@ func frobeniusLoss(est *mat.SymDense, truth *mat.SymDense) float64 {
 // equation number is from memory, not verified: their Definition 1).
 func mvLoss(inv, truth *mat.SymDense, trueInvTrace float64) float64 {
 	n := truth.SymmetricDim()
+	// Full dense copies, so that the product runs in the multi-core Dgemm
+	// rather than gonum's element-wise path for two symmetric operands.
+	iv, tv := evalFull(inv), evalFull(truth)
 	var m mat.Dense
-	m.Mul(truth, inv) // ΣΣ̂⁻¹
+	m.Mul(tv, iv) // ΣΣ̂⁻¹
 	var num, tr float64
 	for i := 0; i < n; i++ {
-		tr += inv.At(i, i)
-		row := m.RawRowView(i)
-		for j, v := range row {
-			num += inv.At(j, i) * v // (Σ̂⁻¹)_ji (ΣΣ̂⁻¹)_ij summed is tr(Σ̂⁻¹ΣΣ̂⁻¹)
+		ir := iv.RawRowView(i)
+		tr += ir[i]
+		// Σ_j (Σ̂⁻¹)_ij (ΣΣ̂⁻¹)_ji summed over i is tr(Σ̂⁻¹ΣΣ̂⁻¹); Σ̂⁻¹ is
+		// symmetric, so (Σ̂⁻¹)_ij = (Σ̂⁻¹)_ji and row i of m pairs with row
+		// i of Σ̂⁻¹ after transposing m: use column i of m.
+		for j, v := range ir {
+			num += v * m.At(j, i)
 		}
 	}
 	nf := float64(n)
 	return (num/nf)/((tr/nf)*(tr/nf)) - 1/(trueInvTrace/nf)
+}
+
+// evalFull copies a symmetric matrix into a general dense one, both
+// triangles filled.
+func evalFull(s *mat.SymDense) *mat.Dense {
+	n := s.SymmetricDim()
+	raw := s.RawSymmetric()
+	d := mat.NewDense(n, n, nil)
+	for i := 0; i < n; i++ {
+		row := raw.Data[i*raw.Stride : i*raw.Stride+n]
+		for j := i; j < n; j++ {
+			d.Set(i, j, row[j])
+			d.Set(j, i, row[j])
+		}
+	}
+	return d
 }
 
 // prial returns Ledoit & Wolf's percentage relative improvement in average

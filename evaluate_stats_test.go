@@ -59,7 +59,7 @@ func TestEvaluateBiasOfBand(t *testing.T) {
 	require.Equal(t, 200, b.Observations)
 	require.InDelta(t, 0.9, b.Lower, 1e-15)
 	require.InDelta(t, 1.1, b.Upper, 1e-15)
-	require.InDelta(t, stddev(z), b.Value, 0)
+	require.InDelta(t, evalStd(z), b.Value, 0)
 	require.Equal(t, b.Value >= 0.9 && b.Value <= 1.1, b.Inside)
 }
 
