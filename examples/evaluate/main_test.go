@@ -1,0 +1,81 @@
+package main
+
+import (
+	"bytes"
+	"encoding/csv"
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+
+	"github.com/stretchr/testify/require"
+)
+
+func TestHelp(t *testing.T) {
+	var out, errw bytes.Buffer
+	require.Equal(t, exitOK, run([]string{"-h"}, &out, &errw))
+	require.Contains(t, errw.String(), "Usage: evaluate")
+	require.Contains(t, errw.String(), "-methods")
+}
+
+func TestBadInput(t *testing.T) {
+	for _, c := range []struct {
+		name string
+		args []string
+		want string
+	}{
+		{"unknown flag", []string{"-bogus"}, "flag provided but not defined"},
+		{"format", []string{"-format", "xml"}, "-format"},
+		{"method", []string{"-methods", "ledoit-wolf,nope"}, "unknown estimator"},
+		{"twice", []string{"-methods", "oas,oas"}, "given twice"},
+		{"step", []string{"-step", "1"}, "-step"},
+		{"window", []string{"-window", "0"}, "-window"},
+		{"argument", []string{"extra"}, "unexpected argument"},
+		{"missing file", []string{"-returns", "/nonexistent/returns.csv"}, "nonexistent"},
+		{"metadata", []string{"-returns", filepath.Join("..", "..", "testdata", "demo", "returns_small.csv"), "-methods", "exposure"}, "needs -assets"},
+	} {
+		t.Run(c.name, func(t *testing.T) {
+			var out, errw bytes.Buffer
+			require.Equal(t, exitBadInput, run(c.args, &out, &errw))
+			msg := errw.String()
+			require.Contains(t, msg, c.want)
+			// The reason is one line, the last (the flag package prints the
+			// usage above it for a flag error).
+			lines := strings.Split(strings.TrimRight(msg, "\n"), "\n")
+			require.True(t, strings.HasPrefix(lines[len(lines)-1], "evaluate: "), "%q", msg)
+			require.Contains(t, lines[len(lines)-1], c.want)
+		})
+	}
+}
+
+// The small demo CSV (50 assets, one year) with two fast estimators, monthly
+// steps over a quarter-year window, as CSV, with a chart.
+func TestSmallFile(t *testing.T) {
+	dir := t.TempDir()
+	chart := filepath.Join(dir, "risk.svg")
+	var out, errw bytes.Buffer
+	code := run([]string{"-returns", filepath.Join("..", "..", "testdata", "demo", "returns_small.csv"),
+		"-methods", "ledoit-wolf,single-index", "-window", "63", "-format", "csv", "-chart", chart, "-portfolios", "10"}, &out, &errw)
+	require.Equal(t, exitOK, code, errw.String())
+	recs, err := csv.NewReader(&out).ReadAll()
+	require.NoError(t, err)
+	require.Len(t, recs, 3)
+	require.Equal(t, "rank", recs[0][0])
+	svg, err := os.ReadFile(chart)
+	require.NoError(t, err)
+	require.True(t, bytes.HasPrefix(svg, []byte("<svg ")))
+}
+
+// With no arguments the program ranks the estimators on the bundled demo
+// market; the full run takes about two minutes, so it is skipped in -short.
+func TestDefaultDemo(t *testing.T) {
+	if testing.Short() {
+		t.Skip("the full demo evaluation")
+	}
+	var out, errw bytes.Buffer
+	require.Equal(t, exitOK, run([]string{"-methods", "ledoit-wolf,single-index,oas", "-portfolios", "20"}, &out, &errw), errw.String())
+	text := out.String()
+	require.Contains(t, text, "oracle")
+	require.Contains(t, text, "Use ")
+	require.Contains(t, text, "36 rebalance dates")
+}
