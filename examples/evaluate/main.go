@@ -127,27 +127,6 @@ func parseFlags(args []string, stderr io.Writer) (config, error) {
 	if cfg.portfolios < 0 || cfg.tracking < 1 || cfg.workers < 0 {
 		return cfg, badInput{errors.New("-portfolios and -workers must not be negative, -tracking-names must be positive")}
 	}
-	if *methods == "all" {
-		cfg.methods = slices.Clone(riskmodel.Methods)
-		if cfg.assets == "" || cfg.assets == "none" {
-			// Without metadata, all the estimators that need none.
-			cfg.methods = slices.DeleteFunc(cfg.methods, needsMetadata)
-		}
-	} else {
-		for _, m := range strings.Split(*methods, ",") {
-			m = strings.TrimSpace(m)
-			if !slices.Contains(riskmodel.Methods, m) {
-				return cfg, badInput{fmt.Errorf("-methods: unknown estimator %q (one of %s)", m, strings.Join(riskmodel.Methods, ","))}
-			}
-			if slices.Contains(cfg.methods, m) {
-				return cfg, badInput{fmt.Errorf("-methods: %q given twice", m)}
-			}
-			cfg.methods = append(cfg.methods, m)
-		}
-	}
-	if cfg.demo && cfg.assets == "" {
-		cfg.assets = "none"
-	}
 	if cfg.returns == "" {
 		wd, err := os.Getwd()
 		if err != nil {
@@ -167,6 +146,24 @@ func parseFlags(args []string, stderr io.Writer) (config, error) {
 		}
 		if cfg.assets == "" {
 			cfg.assets = filepath.Join(root, defaultAssets)
+		}
+	}
+	if *methods == "all" {
+		cfg.methods = slices.Clone(riskmodel.Methods)
+		if cfg.assets == "" || cfg.assets == "none" {
+			// Without metadata, all the estimators that need none.
+			cfg.methods = slices.DeleteFunc(cfg.methods, needsMetadata)
+		}
+	} else {
+		for _, m := range strings.Split(*methods, ",") {
+			m = strings.TrimSpace(m)
+			if !slices.Contains(riskmodel.Methods, m) {
+				return cfg, badInput{fmt.Errorf("-methods: unknown estimator %q (one of %s)", m, strings.Join(riskmodel.Methods, ","))}
+			}
+			if slices.Contains(cfg.methods, m) {
+				return cfg, badInput{fmt.Errorf("-methods: %q given twice", m)}
+			}
+			cfg.methods = append(cfg.methods, m)
 		}
 	}
 	return cfg, nil
