@@ -1,0 +1,178 @@
+package main
+
+import (
+	"math"
+	"math/rand/v2"
+	"slices"
+	"testing"
+
+	"github.com/stretchr/testify/require"
+)
+
+// simplexSort is the sort-based projection onto the probability simplex of
+// Wang & Carreira-Perpiñán (2013), Algorithm 1: sort v descending, find the
+// largest ρ with u_ρ + (1 − Σ_{j≤ρ} u_j)/ρ > 0, shift by that λ, clip at 0.
+func simplexSort(v []float64) []float64 {
+	u := slices.Clone(v)
+	slices.Sort(u)
+	slices.Reverse(u)
+	var sum, lambda float64
+	for j, x := range u {
+		sum += x
+		if l := (1 - sum) / float64(j+1); x+l > 0 {
+			lambda = l
+		}
+	}
+	out := make([]float64, len(v))
+	for i, x := range v {
+		out[i] = math.Max(x+lambda, 0)
+	}
+	return out
+}
+
+func caps(n int, u float64) []float64 {
+	c := make([]float64, n)
+	for i := range c {
+		c[i] = u
+	}
+	return c
+}
+
+func TestProjectWorkedExamples(t *testing.T) {
+	for _, tc := range []struct {
+		name       string
+		v, caps, w []float64
+		tol        float64
+	}{
+		// Already feasible: unchanged.
+		{"feasible", []float64{0.5, 0.3, 0.2}, caps(3, 1), []float64{0.5, 0.3, 0.2}, 1e-15},
+		// By hand: τ = −0.25 gives (min(0.5, 1.25), 0.25, 0.25), sum 1.
+		{"one capped", []float64{1, 0, 0}, caps(3, 0.5), []float64{0.5, 0.25, 0.25}, 1e-15},
+		// By hand: uniform shift of (0.2, 0.2, 0.2, 0.2) by +0.05.
+		{"shift up", []float64{0.2, 0.2, 0.2, 0.2}, caps(4, 1), []float64{0.25, 0.25, 0.25, 0.25}, 1e-15},
+		// A zero cap excludes a name: (0.6, 0.6) → 0.5 each.
+		{"excluded name", []float64{0.6, 0.9, 0.6}, []float64{1, 0, 1}, []float64{0.5, 0, 0.5}, 1e-15},
+		// Caps that sum to exactly 1: every name at its cap.
+		{"tight caps", []float64{3, -2, 0.1, 0.4}, caps(4, 0.25), []float64{0.25, 0.25, 0.25, 0.25}, 1e-15},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			w, err := project(nil, tc.v, tc.caps)
+			require.NoError(t, err)
+			require.InDeltaSlice(t, tc.w, w, tc.tol)
+		})
+	}
+}
+
+func TestProjectProperties(t *testing.T) {
+	rs := rand.New(rand.NewPCG(11, 12))
+	for trial := 0; trial < 200; trial++ {
+		n := 1 + rs.IntN(60)
+		v := make([]float64, n)
+		for i := range v {
+			v[i] = rs.NormFloat64() * math.Pow(10, float64(rs.IntN(3)-2))
+		}
+		u := math.Max(1/float64(n), rs.Float64())
+		c := caps(n, u)
+		w, err := project(nil, v, c)
+		require.NoError(t, err)
+		var sum float64
+		for i, x := range w {
+			require.GreaterOrEqual(t, x, 0.0)
+			require.LessOrEqual(t, x, c[i])
+			sum += x
+		}
+		require.InDelta(t, 1, sum, 1e-12, "trial %d", trial)
+		// The projection onto a convex set C satisfies (v − w)·(z − w) ≤ 0
+		// for every z in C; try feasible points z made by projecting other
+		// random vectors.
+		for k := 0; k < 5; k++ {
+			r := make([]float64, n)
+			for i := range r {
+				r[i] = rs.NormFloat64()
+			}
+			z, err := project(nil, r, c)
+			require.NoError(t, err)
+			var ip float64
+			for i := range z {
+				ip += (v[i] - w[i]) * (z[i] - w[i])
+			}
+			require.LessOrEqual(t, ip, 1e-12)
+		}
+		// With caps of 1 the set is the probability simplex: the sort-based
+		// algorithm of Wang & Carreira-Perpiñán (2013) is a second route.
+		w1, err := project(nil, v, caps(n, 1))
+		require.NoError(t, err)
+		require.InDeltaSlice(t, simplexSort(v), w1, 1e-12)
+	}
+}
+
+func TestProjectInfeasible(t *testing.T) {
+	_, err := project(nil, []float64{0.5, 0.5, 0.5}, caps(3, 0.3))
+	require.ErrorIs(t, err, errInfeasible)
+}
+
+// diagonal is Σx for a diagonal Σ.
+func diagonal(d []float64) mulVec {
+	return func(dst, x []float64) []float64 {
+		for i := range x {
+			dst[i] = d[i] * x[i]
+		}
+		return dst
+	}
+}
+
+func TestRebalanceDiagonalKnownSolution(t *testing.T) {
+	// For Σ = diag(d) the problem separates: min Σ d_i (w_i − b_i)² with
+	// Σ w_i = 1, 0 ≤ w_i ≤ u. The KKT conditions give
+	// w_i = clip(b_i + μ/d_i, 0, u) with μ making the sum 1; μ is found here
+	// by bisection, a route independent of the projected gradient.
+	b := []float64{0.40, 0.25, 0.15, 0.10, 0.06, 0.04}
+	d := []float64{1e-4, 4e-4, 2e-4, 9e-4, 1e-4, 3e-4}
+	u := 0.3
+	c := caps(6, u)
+	c[5] = 0 // the last name may not be held
+	kkt := func(mu float64) ([]float64, float64) {
+		w := make([]float64, 6)
+		var s float64
+		for i := range w {
+			w[i] = math.Min(c[i], math.Max(0, b[i]+mu/d[i]))
+			s += w[i]
+		}
+		return w, s
+	}
+	lo, hi := -1.0, 1.0
+	for k := 0; k < 200; k++ {
+		mid := (lo + hi) / 2
+		if _, s := kkt(mid); s < 1 {
+			lo = mid
+		} else {
+			hi = mid
+		}
+	}
+	want, _ := kkt((lo + hi) / 2)
+
+	start := []float64{0, 0, 0.5, 0.5, 0, 0}
+	w, path, err := rebalance(diagonal(d), b, start, c, largestEigenvalue(diagonal(d), 6), 100000, 1e-13)
+	require.NoError(t, err)
+	require.InDeltaSlice(t, want, w, 1e-8)
+	for k := 1; k < len(path); k++ {
+		require.LessOrEqual(t, path[k], path[k-1]*(1+1e-12), "step %d raised the tracking error", k)
+	}
+	require.Less(t, path[len(path)-1], path[0])
+}
+
+func TestRebalanceReachesTheBenchmark(t *testing.T) {
+	// With caps that do not bind and every name holdable, the benchmark
+	// itself is feasible and has zero tracking error.
+	d := []float64{1e-4, 2e-4, 3e-4, 4e-4}
+	b := []float64{0.1, 0.2, 0.3, 0.4}
+	w, path, err := rebalance(diagonal(d), b, []float64{1, 0, 0, 0}, caps(4, 1), largestEigenvalue(diagonal(d), 4), 100000, 1e-14)
+	require.NoError(t, err)
+	require.InDeltaSlice(t, b, w, 1e-9)
+	require.Less(t, path[len(path)-1], 1e-9)
+}
+
+func TestLargestEigenvalue(t *testing.T) {
+	got := largestEigenvalue(diagonal([]float64{1, 5, 2}), 3)
+	require.InDelta(t, 5*1.01, got, 1e-6)
+}
