@@ -94,7 +94,7 @@ func parseFlags(args []string, stderr io.Writer) (config, error) {
 	fs.StringVar(&cfg.benchmark, "benchmark", "", "benchmark holdings, CSV or Parquet; \"none\" for equal weights (default the demo's with the demo's returns)")
 	fs.StringVar(&cfg.fund, "fund", "", "fund holdings, CSV or Parquet; \"none\" to skip (default the demo's with the demo's returns)")
 	fs.StringVar(&cfg.assets, "assets", "", "asset metadata (sector, market_cap), CSV or Parquet, for the exposure and hybrid estimators; \"none\" to skip them (default the demo's with the demo's returns)")
-	methods := fs.String("methods", "all", "comma-separated estimators, or all: "+strings.Join(riskmodel.Methods, ","))
+	methods := fs.String("methods", "all", "comma-separated estimators, or all (every one but exposure and hybrid, which need -assets and a -window above 252): "+strings.Join(riskmodel.Methods, ","))
 	fs.IntVar(&cfg.step, "step", riskmodel.DefaultEvaluateStep, "dates between rebalance dates, and the length of each test period")
 	fs.IntVar(&cfg.window, "window", riskmodel.DefaultEvaluateWindow, "dates of history each fit sees")
 	fs.IntVar(&cfg.portfolios, "portfolios", riskmodel.DefaultRandomPortfolios, "random long-only and random active test portfolios of each kind")
@@ -149,11 +149,9 @@ func parseFlags(args []string, stderr io.Writer) (config, error) {
 		}
 	}
 	if *methods == "all" {
-		cfg.methods = slices.Clone(riskmodel.Methods)
-		if cfg.assets == "" || cfg.assets == "none" {
-			// Without metadata, all the estimators that need none.
-			cfg.methods = slices.DeleteFunc(cfg.methods, needsMetadata)
-		}
+		// The exposure and hybrid estimators need metadata and a window
+		// longer than their styles' look-back (252 dates): name them.
+		cfg.methods = slices.DeleteFunc(slices.Clone(riskmodel.Methods), needsMetadata)
 	} else {
 		for _, m := range strings.Split(*methods, ",") {
 			m = strings.TrimSpace(m)
