@@ -140,10 +140,19 @@ func Build(p *Panel, asof Date, opts *BuildOptions) (*Model, *BuildReport, error
 	var unclassified []string
 	if o.Method == MethodExposure || o.Method == MethodHybrid {
 		win, unclassified = keepClassified(win, o)
-		// The regressions start after the styles' look-back: an asset also
-		// needs observations there.
+		if len(win.assets) == 0 {
+			return nil, nil, fmt.Errorf("riskmodel: build %s: %w: no asset has both a sector and a positive market cap (asset metadata columns sector and market_cap)",
+				o.Method, ErrEmpty)
+		}
+		// The regressions start after the styles' look-back: the window must
+		// be longer, and an asset needs observations after it.
+		look := factor.ExposureSettings{}.Lookback()
+		if len(win.dates) < look+2 {
+			return nil, nil, fmt.Errorf("riskmodel: build %s: %w: the window has %d dates; the style look-back takes %d and at least 2 more are needed",
+				o.Method, ErrEmpty, len(win.dates), look)
+		}
 		var late []Coverage
-		win, late = win.dropSparseAfter(factor.ExposureSettings{}.Lookback(), 2)
+		win, late = win.dropSparseAfter(look, 2)
 		dropped = append(dropped, late...)
 	}
 	t, n := win.Dims()
