@@ -184,9 +184,16 @@ func previous(store riskmodel.Store, log *slog.Logger) *riskmodel.Model {
 func build(cfg config, in *inputs, asof riskmodel.Date, prev *riskmodel.Model, log *slog.Logger) (*riskmodel.Model, error) {
 	start := time.Now()
 	o := cfg.build
+	// Sectors group the factor model's specific-variance shrinkage; sectors
+	// and market caps are the exposure and hybrid methods' characteristics.
 	o.Groups = make(map[string]string, len(in.assets))
+	o.Sectors = o.Groups
+	o.MarketCaps = make(map[string]float64, len(in.assets))
 	for _, a := range in.assets {
 		o.Groups[a.Asset] = a.Sector
+		if !math.IsNaN(a.MarketCap) {
+			o.MarketCaps[a.Asset] = a.MarketCap
+		}
 	}
 	if prev != nil && prev.PeriodsPerYear == in.panel.PeriodsPerYear() {
 		o.Previous = prev

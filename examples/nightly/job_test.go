@@ -57,11 +57,15 @@ func fakeRepo(t *testing.T) string {
 }
 
 // smallMarket writes a generated invented market of 60 assets and 300 dates
-// (returns, assets, fund and benchmark) into a temporary folder. A
-// stationary market has no missing returns.
+// (600 when stationary: no missing returns) with assets, fund and benchmark
+// into a temporary folder.
 func smallMarket(t *testing.T, stationary bool) (dir string, args []string) {
 	t.Helper()
-	d, err := riskmodel.GenerateDemo(&riskmodel.DemoConfig{Seed: 5, Assets: 60, Dates: 300, Stationary: stationary})
+	dates := 300
+	if stationary {
+		dates = 600 // room for the exposure methods' style look-back before a 500-date window's regressions
+	}
+	d, err := riskmodel.GenerateDemo(&riskmodel.DemoConfig{Seed: 5, Assets: 60, Dates: dates, Stationary: stationary})
 	require.NoError(t, err)
 	dir = t.TempDir()
 	require.NoError(t, d.WriteFiles(dir))
@@ -176,7 +180,7 @@ func TestEveryMethodPublishes(t *testing.T) {
 	for _, method := range riskmodel.Methods {
 		t.Run(method, func(t *testing.T) {
 			store := t.TempDir()
-			code, out, errs := runJob(append(args, "-method", method, "-out", store)...)
+			code, out, errs := runJob(append(args, "-method", method, "-out", store, "-window", "500")...)
 			require.Equal(t, 0, code, errs)
 			require.Contains(t, out, "Published "+method+" model")
 			m, err := riskmodel.Store{Dir: store}.LoadCurrent()
