@@ -57,6 +57,12 @@ func (s Store) Publish(m *Model) (string, error) {
 		os.RemoveAll(staging)
 		return "", fmt.Errorf("riskmodel: publish: %w", err)
 	}
+	// MkdirTemp makes the folder private to its owner; a published model is
+	// read by other users (the analyst, the optimizer), so open it up as a
+	// plain MkdirAll would.
+	if err := os.Chmod(staging, 0o755); err != nil {
+		return fail(err)
+	}
 	if err := hook("staging"); err != nil {
 		return fail(err)
 	}

@@ -108,6 +108,9 @@ func TestPublishSwitchesCurrent(t *testing.T) {
 	p1, err := s.Publish(first)
 	require.NoError(t, err)
 	require.Equal(t, filepath.Join(s.Dir, "2026-11-30"), p1)
+	info, err := os.Stat(p1)
+	require.NoError(t, err)
+	require.Equal(t, os.FileMode(0o755), info.Mode().Perm(), "other users must be able to read a published model")
 
 	second := testFactorModel(t, 2, 20, 2)
 	p2, err := s.Publish(second)
