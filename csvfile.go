@@ -11,13 +11,47 @@ import (
 	"strings"
 )
 
+// MaxCSVRecord is the largest CSV record, in bytes, that the readers accept: a
+// header or a data line (or several lines when a quoted field spans them).
+// Two MiB is room for a wide return file of about 90,000 assets (full
+// precision takes up to 24 bytes a cell); the limit bounds the memory a
+// hostile file, such as a header of endless columns, can claim: encoding/csv
+// holds a whole record and 40 bytes of offsets per field at once, so a
+// record of MaxCSVRecord bytes costs the reader up to about 170 MB.
+const MaxCSVRecord = 2 << 20
+
+// ErrRecordTooLarge reports a CSV record longer than MaxCSVRecord bytes.
+var ErrRecordTooLarge = errors.New("CSV record is longer than the limit of MaxCSVRecord bytes")
+
+// recordLimit hands out at most n more bytes of r; the reader resets n after
+// each record, so it bounds a record's length (plus the 64 KiB that the
+// buffered reader may read ahead).
+type recordLimit struct {
+	r io.Reader
+	n int
+}
+
+func (l *recordLimit) Read(p []byte) (int, error) {
+	if l.n <= 0 {
+		return 0, ErrRecordTooLarge
+	}
+	if len(p) > l.n {
+		p = p[:l.n]
+	}
+	k, err := l.r.Read(p)
+	l.n -= k
+	return k, err
+}
+
 // csvFile is a CSV file opened for reading and positioned after its header.
 type csvFile struct {
 	path   string
 	f      *os.File
+	lim    *recordLimit
 	r      *csv.Reader
 	header []string
 	rows   int
+	line   int // last line of the record read last; 1 after the header
 }
 
 // openCSV opens path and reads its header. Header names are trimmed of
@@ -28,7 +62,8 @@ func openCSV(path string) (*csvFile, error) {
 	if err != nil {
 		return nil, &FileError{File: path, Err: err}
 	}
-	c := &csvFile{path: path, f: f, r: csv.NewReader(bufio.NewReaderSize(f, 1<<16))}
+	c := &csvFile{path: path, f: f, lim: &recordLimit{r: f, n: MaxCSVRecord}}
+	c.r = csv.NewReader(bufio.NewReaderSize(c.lim, 1<<16))
 	c.r.ReuseRecord = true
 	rec, err := c.r.Read()
 	if err == io.EOF {
@@ -39,6 +74,8 @@ func openCSV(path string) (*csvFile, error) {
 		f.Close()
 		return nil, c.wrap(err)
 	}
+	c.lim.n = MaxCSVRecord
+	c.line, _ = c.r.FieldPos(len(rec) - 1)
 	c.header = slices.Clone(rec)
 	seen := make(map[string]bool, len(rec))
 	for k, h := range c.header {
@@ -99,12 +136,18 @@ func (c *csvFile) next() ([]string, int, error) {
 		return nil, 0, c.wrap(err)
 	}
 	c.rows++
+	c.lim.n = MaxCSVRecord
 	line, _ := c.r.FieldPos(0)
+	c.line, _ = c.r.FieldPos(len(rec) - 1)
 	return rec, line, nil
 }
 
 // wrap turns an error of encoding/csv into a *FileError.
 func (c *csvFile) wrap(err error) error {
+	if errors.Is(err, ErrRecordTooLarge) {
+		return &FileError{File: c.path, Line: c.line + 1,
+			Err: detail(ErrRecordTooLarge, "the record starting on this line exceeds %d bytes", MaxCSVRecord)}
+	}
 	var pe *csv.ParseError
 	if errors.As(err, &pe) {
 		return &FileError{File: c.path, Line: pe.Line, Err: fmt.Errorf("%w (at character %d of the line)", pe.Err, pe.Column)}
