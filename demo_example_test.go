@@ -34,5 +34,5 @@ func ExampleGenerateDemo() {
 	// 500 dates, 100 assets, from 2030-01-07
 	// factors: [market Orchards Foundries Harbours Looms Lanterns scale trend calm gearing]
 	// fund tracking error 0.0300 a year
-	// first asset QV0001 in Lanterns, true volatility 0.3134 a year
+	// first asset QV0001 in Lanterns, true volatility 0.3672 a year
 }

@@ -54,7 +54,7 @@ const (
 // scores (scale = standardised log cap, the others standard normal) and a
 // specific volatility of 28 % a year times exp(−0.12·scale + 0.25·N(0,1)),
 // clipped to [10 %, 80 %]. Factor volatilities are 15 % a year for the market,
-// 6–10 % for sectors and 3–5 % for styles, with a random factor correlation.
+// 12–18 % for sectors and 5–8 % for styles, with a random factor correlation.
 //
 // Each date, factor returns are multivariate normal with covariance F_i and
 // specific returns are Student-t with SpecificDoF degrees of freedom scaled
@@ -192,11 +192,11 @@ func drawStructure(c DemoConfig, rs *rand.Rand) structure {
 	st.fstress = make([]float64, k)
 	st.fstress[0] = stressMarket
 	for q := 0; q < s; q++ {
-		st.fvol[1+q] = (0.06 + 0.04*rs.Float64()) * daily
+		st.fvol[1+q] = (0.12 + 0.06*rs.Float64()) * daily
 		st.fstress[1+q] = stressSector
 	}
 	for q := range demoStyleNames {
-		st.fvol[1+s+q] = (0.03 + 0.02*rs.Float64()) * daily
+		st.fvol[1+s+q] = (0.05 + 0.03*rs.Float64()) * daily
 		st.fstress[1+s+q] = stressStyle
 	}
 	// A random correlation: G·Gᵀ with G = I + 0.15·N(0,1), scaled to a unit

@@ -27,8 +27,8 @@ func ExampleEvaluate() {
 		fmt.Printf("%d %-13s min-variance vol %.4f  PRIAL %.4f %%\n", s.Rank, s.Name, s.MinVariance.Realised.Value, s.FrobeniusPRIAL)
 	}
 	// Output:
-	// 1 oracle        min-variance vol 0.1228  PRIAL 100.0000 %
-	// 2 single-index  min-variance vol 0.1562  PRIAL 47.3029 %
-	// 3 ledoit-wolf   min-variance vol 0.1537  PRIAL 23.6843 %
-	// 4 sample        min-variance vol 0.2457  PRIAL 0.0000 %
+	// 1 oracle        min-variance vol 0.1461  PRIAL 100.0000 %
+	// 2 single-index  min-variance vol 0.1823  PRIAL 24.7470 %
+	// 3 ledoit-wolf   min-variance vol 0.1839  PRIAL 24.7374 %
+	// 4 sample        min-variance vol 0.3019  PRIAL 0.0000 %
 }

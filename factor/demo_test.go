@@ -61,7 +61,7 @@ func TestDemoMarket(t *testing.T) {
 	sv := svd.Values(nil)
 	t.Logf("cosines of the principal angles: %.3f", sv)
 	// The market and the sector factors are strong enough to be found; the
-	// three style factors (3–5 % volatility) sit inside the noise of 200
+	// three style factors (5–8 % volatility) sit near the noise of 200
 	// assets and 750 dates, so only six of nine directions are required.
 	angle := math.Acos(math.Min(1, sv[5]))
 	t.Logf("sixth principal angle to the true exposures: %.3f rad", angle)
