@@ -1,7 +1,7 @@
 // Package dense holds the dense products that the estimators share: the
 // weighted cross-product XᵀWX (N×N) and the weighted Gram matrix W½XXᵀW½
 // (T×T) of a T×N matrix X with observation weights w on its rows, and the
-// plain product AᵀB.
+// plain products AᵀB, AB and C − AB.
 //
 // The products are computed the way optimized BLAS libraries compute them
 // (Goto & van de Geijn 2008): the operands are packed once into contiguous
@@ -14,6 +14,12 @@
 // Every element is summed in a fixed order that depends on the sizes and the
 // kernel only, never on the number of cores, so the results are
 // bit-identical for any GOMAXPROCS on a given machine.
+//
+// Built with the openblas tag (cgo, Debian's libopenblas-dev,
+// CGO_LDFLAGS=-lopenblas), the products go to OpenBLAS through blas64
+// instead, and gonum's own products in every package use it too. OpenBLAS
+// picks its own summation order and threads: its results agree with the
+// default build to rounding, not bit for bit.
 //
 // References:
 //
@@ -50,6 +56,10 @@ func XtWX(dst *mat.SymDense, x mat.Matrix, w []float64) *mat.SymDense {
 		q = &operand{data: data, stride: stride, trans: trans}
 	}
 	raw := dst.RawSymmetric()
+	if viaBLAS {
+		blasXtWX(raw, data, stride, trans, t, n, w)
+		return dst
+	}
 	product(raw.Data, raw.Stride, n, n, t, p, q, true, best)
 	return dst
 }
@@ -68,6 +78,10 @@ func XWXt(dst *mat.SymDense, x mat.Matrix, w []float64) *mat.SymDense {
 	}
 	dst = prepare(dst, t)
 	data, stride, trans := rowMajor(x)
+	if viaBLAS {
+		blasXWXt(dst.RawSymmetric(), data, stride, trans, t, n, w)
+		return dst
+	}
 	var sw []float64
 	if w != nil {
 		sw = make([]float64, t)
@@ -96,9 +110,89 @@ func MulTA(dst *mat.Dense, a, b mat.Matrix) *mat.Dense {
 	if t != tb {
 		panic(mat.ErrShape)
 	}
+	dst = prepareDense(dst, m, n)
+	ad, as, at := rowMajor(a)
+	bd, bs, bt := rowMajor(b)
+	raw := dst.RawMatrix()
+	if viaBLAS {
+		blasGemm(raw, blasArg(ad, as, at, t, m), !at, blasArg(bd, bs, bt, t, n), bt, t, false)
+		return dst
+	}
+	p := &operand{data: ad, stride: as, trans: at}
+	q := &operand{data: bd, stride: bs, trans: bt}
+	product(raw.Data, raw.Stride, m, n, t, p, q, false, best)
+	return dst
+}
+
+// Mul sets dst to a·b and returns dst:
+//
+//	dst_ij = Σ_k a_ik b_kj
+//
+// where a is M×K and b is K×N. A nil or empty dst is allocated; a dst that
+// is not M×N, or a and b whose inner sizes differ, panic with mat.ErrShape.
+// dst must not share memory with a or b. Cost 2·M·K·N flops on all cores,
+// and packed copies of a and b.
+func Mul(dst *mat.Dense, a, b mat.Matrix) *mat.Dense {
+	m, k := a.Dims()
+	kb, n := b.Dims()
+	if k != kb {
+		panic(mat.ErrShape)
+	}
+	dst = prepareDense(dst, m, n)
+	mulAdd(dst, a, b, false)
+	return dst
+}
+
+// SubMul sets dst to dst − a·b and returns dst:
+//
+//	dst_ij ← dst_ij − Σ_k a_ik b_kj
+//
+// where a is M×K, b is K×N and dst is M×N: a dst of another size, or a and
+// b whose inner sizes differ, panic with mat.ErrShape. It needs no M×N
+// scratch: each element starts from its old value. dst must not share
+// memory with a or b. Cost 2·M·K·N flops on all cores, and packed copies of
+// a and b.
+func SubMul(dst *mat.Dense, a, b mat.Matrix) *mat.Dense {
+	m, k := a.Dims()
+	kb, n := b.Dims()
+	if r, c := dst.Dims(); k != kb || r != m || c != n {
+		panic(mat.ErrShape)
+	}
+	mulAdd(dst, a, b, true)
+	return dst
+}
+
+// mulAdd sets dst to a·b, or to dst − a·b when sub is set. The product is
+// PᵀQ with P = aᵀ; the subtraction negates P as it is packed, which is
+// exact, so every element is its old value plus the same sum as Mul forms.
+func mulAdd(dst *mat.Dense, a, b mat.Matrix, sub bool) {
+	m, k := a.Dims()
+	_, n := b.Dims()
+	if m == 0 || n == 0 {
+		return
+	}
+	ad, as, at := rowMajor(a)
+	bd, bs, bt := rowMajor(b)
+	raw := dst.RawMatrix()
+	if viaBLAS {
+		blasGemm(raw, blasArg(ad, as, at, m, k), at, blasArg(bd, bs, bt, k, n), bt, k, sub)
+		return
+	}
+	p := &operand{data: ad, stride: as, trans: !at}
+	if sub {
+		p.kw = make([]float64, k)
+		for i := range p.kw {
+			p.kw[i] = -1
+		}
+	}
+	q := &operand{data: bd, stride: bs, trans: bt}
+	accumulate(raw.Data, raw.Stride, m, n, k, p, q, false, sub, best)
+}
+
+func prepareDense(dst *mat.Dense, m, n int) *mat.Dense {
 	switch {
 	case dst == nil:
-		dst = mat.NewDense(m, n, nil)
+		return mat.NewDense(m, n, nil)
 	case dst.IsEmpty():
 		dst.ReuseAs(m, n)
 	default:
@@ -106,12 +200,6 @@ func MulTA(dst *mat.Dense, a, b mat.Matrix) *mat.Dense {
 			panic(mat.ErrShape)
 		}
 	}
-	ad, as, at := rowMajor(a)
-	bd, bs, bt := rowMajor(b)
-	p := &operand{data: ad, stride: as, trans: at}
-	q := &operand{data: bd, stride: bs, trans: bt}
-	raw := dst.RawMatrix()
-	product(raw.Data, raw.Stride, m, n, t, p, q, false, best)
 	return dst
 }
 

@@ -92,41 +92,103 @@ func requireClose(t *testing.T, got, want, scale mat.Symmetric, tol float64, msg
 	}
 }
 
-// withKernel runs f with best set to k.
+// withKernel runs f with the products on kernel k.
 func withKernel(k kernel, f func()) {
-	saved := best
-	best = k
-	defer func() { best = saved }()
+	saved, route := best, viaBLAS
+	best, viaBLAS = k, false
+	defer func() { best, viaBLAS = saved, route }()
 	f()
 }
 
+// withBLAS runs f with the products on blas64: gonum's own BLAS in the
+// default build, OpenBLAS in the openblas build.
+func withBLAS(f func()) {
+	route := viaBLAS
+	viaBLAS = true
+	defer func() { viaBLAS = route }()
+	f()
+}
+
+// naiveMul computes c0 + s·Σ_k a_ik b_kj by its definition (c0 may be nil),
+// with the scale |c0_ij| + Σ_k |a_ik b_kj| of each element.
+func naiveMul(c0, a, b mat.Matrix, s float64) (out, scale *mat.Dense) {
+	m, k := a.Dims()
+	_, n := b.Dims()
+	out, scale = mat.NewDense(m, n, nil), mat.NewDense(m, n, nil)
+	for i := 0; i < m; i++ {
+		for j := 0; j < n; j++ {
+			var d, e float64
+			if c0 != nil {
+				d, e = c0.At(i, j), math.Abs(c0.At(i, j))
+			}
+			for l := 0; l < k; l++ {
+				d += s * a.At(i, l) * b.At(l, j)
+				e += math.Abs(a.At(i, l) * b.At(l, j))
+			}
+			out.Set(i, j, d)
+			scale.Set(i, j, e)
+		}
+	}
+	return out, scale
+}
+
+func requireCloseDense(t *testing.T, got, want, scale mat.Matrix, tol float64, msg string) {
+	t.Helper()
+	r, c := want.Dims()
+	gr, gc := got.Dims()
+	require.Equal(t, [2]int{r, c}, [2]int{gr, gc}, msg)
+	for i := 0; i < r; i++ {
+		for j := 0; j < c; j++ {
+			d := math.Abs(got.At(i, j) - want.At(i, j))
+			require.LessOrEqual(t, d, tol*scale.At(i, j), "%s: element (%d,%d) %v want %v", msg, i, j, got.At(i, j), want.At(i, j))
+		}
+	}
+}
+
 func TestProductsMatchDefinition(t *testing.T) {
+	for _, k := range kernels() {
+		withKernel(k, func() { checkDefinitions(t, 1e-12, "kernel "+k.name) })
+	}
+	withBLAS(func() { checkDefinitions(t, 1e-12, backend()) })
+}
+
+// checkDefinitions compares the five products with their definitions to
+// tol·Σ|terms|, on the route currently selected.
+func checkDefinitions(t *testing.T, tol float64, route string) {
+	t.Helper()
 	rng := rand.New(rand.NewPCG(1, 2))
 	for _, tc := range []struct {
 		name string
 		t, n int
 		tol  float64
 	}{
-		{name: "one by one", t: 1, n: 1, tol: 1e-12},
-		{name: "one date", t: 1, n: 30, tol: 1e-12},
-		{name: "one asset", t: 40, n: 1, tol: 1e-12},
-		{name: "fewer dates than assets", t: 3, n: 500, tol: 1e-12},
-		{name: "long and thin", t: 400, n: 7, tol: 1e-12},
-		{name: "several tiles and blocks", t: 300, n: 262, tol: 1e-12},
+		{name: "one by one", t: 1, n: 1, tol: tol},
+		{name: "one date", t: 1, n: 30, tol: tol},
+		{name: "one asset", t: 40, n: 1, tol: tol},
+		{name: "fewer dates than assets", t: 3, n: 500, tol: tol},
+		{name: "long and thin", t: 400, n: 7, tol: tol},
+		{name: "several tiles and blocks", t: 300, n: 262, tol: tol},
 	} {
 		x := randMatrix(rng, tc.t, tc.n)
 		w := randWeights(rng, tc.t)
 		for _, wt := range [][]float64{nil, w} {
 			want, scale := naive(x, wt)
 			wantG, scaleG := naiveGram(x, wt)
-			for _, k := range kernels() {
-				msg := fmt.Sprintf("%s, kernel %s, weights %v", tc.name, k.name, wt != nil)
-				withKernel(k, func() {
-					requireClose(t, XtWX(nil, x, wt), want, scale, tc.tol, "XtWX "+msg)
-					requireClose(t, XWXt(nil, x, wt), wantG, scaleG, tc.tol, "XWXt "+msg)
-				})
-			}
+			msg := fmt.Sprintf("%s, %s, weights %v", tc.name, route, wt != nil)
+			requireClose(t, XtWX(nil, x, wt), want, scale, tc.tol, "XtWX "+msg)
+			requireClose(t, XWXt(nil, x, wt), wantG, scaleG, tc.tol, "XWXt "+msg)
 		}
+		// A·B with A = X (T×N) and B = the first columns of Xᵀ (N×min(T, 37)),
+		// Aᵀ·C and C − A·B.
+		nb := min(tc.t, 37)
+		bs := mat.DenseCopyOf(x.T()).Slice(0, tc.n, 0, nb) // a view
+		wantM, scaleM := naiveMul(nil, x, bs, 1)
+		requireCloseDense(t, Mul(nil, x, bs), wantM, scaleM, tc.tol, "Mul "+tc.name+", "+route)
+		c0 := randMatrix(rng, tc.t, nb)
+		wantS, scaleS := naiveMul(c0, x, bs, -1)
+		requireCloseDense(t, SubMul(mat.DenseCopyOf(c0), x, bs), wantS, scaleS, tc.tol, "SubMul "+tc.name+", "+route)
+		wantT, scaleT := naiveMul(nil, x.T(), c0, 1)
+		requireCloseDense(t, MulTA(nil, x, c0), wantT, scaleT, tc.tol, "MulTA "+tc.name+", "+route)
 	}
 }
 
@@ -134,7 +196,12 @@ func TestProductsMatchDefinition(t *testing.T) {
 // the reduction in blocks of kc, each summed from zero by fused (one
 // rounding) or unfused multiply-adds, the block sums added in order.
 func model(k int, p, q func(k int) float64, fused bool) float64 {
-	var s float64
+	return modelFrom(0, k, p, q, fused)
+}
+
+// modelFrom is model with the block sums added to start, as SubMul does.
+func modelFrom(start float64, k int, p, q func(k int) float64, fused bool) float64 {
+	s := start
 	for k0 := 0; k0 < k; k0 += kc {
 		var acc float64
 		for l := k0; l < min(k0+kc, k); l++ {
@@ -174,6 +241,20 @@ func TestKernelsFollowTheirOrder(t *testing.T) {
 					require.Equal(t, math.Float64bits(want), math.Float64bits(got.At(i, j)), "XtWX kernel %s element (%d,%d)", k.name, i, j)
 				}
 			}
+			// A·B and C − A·B with A = xᵀ (n×tt) and B = x (tt×n): element
+			// (i, j) is c_ij plus the model's sum of (−)x_li x_lj.
+			xt0 := mat.DenseCopyOf(x.T())
+			ab := Mul(nil, xt0, x)
+			c0 := randMatrix(rng, n, n)
+			sub := SubMul(mat.DenseCopyOf(c0), xt0, x)
+			for i := 0; i < n; i++ {
+				for j := 0; j < n; j++ {
+					want := model(tt, func(l int) float64 { return x.At(l, i) }, func(l int) float64 { return x.At(l, j) }, k.fused)
+					require.Equal(t, math.Float64bits(want), math.Float64bits(ab.At(i, j)), "Mul kernel %s element (%d,%d)", k.name, i, j)
+					want = modelFrom(c0.At(i, j), tt, func(l int) float64 { return -x.At(l, i) }, func(l int) float64 { return x.At(l, j) }, k.fused)
+					require.Equal(t, math.Float64bits(want), math.Float64bits(sub.At(i, j)), "SubMul kernel %s element (%d,%d)", k.name, i, j)
+				}
+			}
 			// The Gram matrix of xᵀ has n dates and tt assets.
 			xt := mat.DenseCopyOf(x.T())
 			gram := XWXt(nil, xt, sw[:n])
@@ -199,13 +280,15 @@ func TestDeterministicAcrossGOMAXPROCS(t *testing.T) {
 	defer runtime.GOMAXPROCS(runtime.GOMAXPROCS(0))
 	for _, k := range kernels() {
 		withKernel(k, func() {
-			var first [3][]float64
+			var first [5][]float64
 			for _, procs := range []int{1, 2, 8} {
 				runtime.GOMAXPROCS(procs)
-				got := [3][]float64{
+				got := [5][]float64{
 					XtWX(nil, x, w).RawSymmetric().Data,
 					XWXt(nil, x, w).RawSymmetric().Data,
 					MulTA(nil, x, x.Slice(0, tt, 0, 70)).RawMatrix().Data,
+					Mul(nil, x, x.Slice(0, 30, 0, n).T()).RawMatrix().Data,
+					SubMul(mat.DenseCopyOf(x.Slice(0, tt, 0, 30)), x, x.Slice(0, 30, 0, n).T()).RawMatrix().Data,
 				}
 				if procs == 1 {
 					first = got
@@ -278,6 +361,10 @@ func TestInputForms(t *testing.T) {
 				var wantM mat.Dense
 				wantM.Mul(xc.T(), xc.Slice(0, 80, 0, 9))
 				require.True(t, mat.EqualApprox(MulTA(nil, xT.T(), opaque{x.Slice(0, 80, 0, 9)}), &wantM, 1e-12), "MulTA forms, kernel %s", k.name)
+				var wantAB mat.Dense
+				wantAB.Mul(xc, xc.T())
+				require.True(t, mat.EqualApprox(Mul(nil, xT.T(), opaque{xT}), &wantAB, 1e-12), "Mul forms, kernel %s", k.name)
+				require.True(t, mat.Equal(Mul(nil, xc, xT), Mul(nil, x, xc.T())), "Mul view and transpose, kernel %s", k.name)
 			}
 		})
 	}
@@ -333,6 +420,10 @@ func TestShapePanics(t *testing.T) {
 	require.PanicsWithValue(t, mat.ErrShape, func() { XWXt(nil, x, []float64{1, 2, 3, 4, 5}) })
 	require.PanicsWithValue(t, mat.ErrShape, func() { MulTA(nil, x, mat.NewDense(3, 3, nil)) })
 	require.PanicsWithValue(t, mat.ErrShape, func() { MulTA(mat.NewDense(3, 2, nil), x, x) })
+	require.PanicsWithValue(t, mat.ErrShape, func() { Mul(nil, x, x) })
+	require.PanicsWithValue(t, mat.ErrShape, func() { Mul(mat.NewDense(4, 3, nil), x, x.T()) })
+	require.PanicsWithValue(t, mat.ErrShape, func() { SubMul(mat.NewDense(4, 3, nil), x, x.T()) })
+	require.PanicsWithValue(t, mat.ErrShape, func() { SubMul(mat.NewDense(4, 4, nil), x, x) })
 }
 
 // TestNonFinitePropagates: x must be finite, but a NaN must not vanish.

@@ -177,6 +177,13 @@ func (p *packed) release() {
 // where P is k×m and Q is k×n. With upper set (m == n), only the elements
 // with i ≤ j are written: the rest of c is left untouched.
 func product(c []float64, ldc, m, n, k int, p, q *operand, upper bool, kern kernel) {
+	accumulate(c, ldc, m, n, k, p, q, upper, false, kern)
+}
+
+// accumulate is product, adding PᵀQ to the values already in c when add is
+// set: each element then starts from its old value instead of zero and takes
+// the block sums in the same order.
+func accumulate(c []float64, ldc, m, n, k int, p, q *operand, upper, add bool, kern kernel) {
 	workers := runtime.GOMAXPROCS(0)
 	type task struct{ i, j int }
 	var tasks []task
@@ -226,7 +233,7 @@ func product(c []float64, ldc, m, n, k int, p, q *operand, upper bool, kern kern
 	parallel(len(tasks), workers, func(t int) {
 		tk := tasks[t]
 		mi, nj := min(ts, m-tk.i), min(ts, n-tk.j)
-		for i := tk.i; i < tk.i+mi; i++ {
+		for i := tk.i; i < tk.i+mi && !add; i++ {
 			j0 := tk.j
 			if upper {
 				j0 = max(j0, i)
