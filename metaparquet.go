@@ -60,7 +60,7 @@ func scanParquetTable(path string, required []string, only bool, fn func(header,
 		for {
 			n, err := streams[0].fill(bufs[0])
 			if err == io.EOF {
-				return nil
+				return checkRows(pf, row)
 			}
 			if err != nil {
 				return readErr(path, row+1, header[0], err)

@@ -20,7 +20,9 @@ var parquetMagic = []byte("PAR1")
 
 // openParquet opens path as Parquet. A file that does not start with the
 // Parquet magic is ErrNotParquet; one that starts with it but does not end
-// with it is ErrTruncated; a damaged footer is ErrNotParquet. Page indexes and
+// with it is ErrTruncated; a damaged footer is ErrNotParquet, and so is a
+// footer or page header whose claims do not fit the file (see checkLayout).
+// Page indexes and
 // bloom filters are not read: the readers here scan every page anyway.
 func openParquet(path string) (pf *parquetFile, err error) {
 	f, err := os.Open(path)
@@ -69,6 +71,9 @@ func openParquet(path string) (pf *parquetFile, err error) {
 	p, err := parquet.OpenFile(f, size, parquet.SkipPageIndex(true), parquet.SkipBloomFilters(true))
 	if err != nil {
 		return nil, &FileError{File: path, Err: detail(ErrNotParquet, "%v", err)}
+	}
+	if err := checkLayout(path, f, p, size); err != nil {
+		return nil, err
 	}
 	return &parquetFile{path: path, f: f, pf: p}, nil
 }

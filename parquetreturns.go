@@ -173,7 +173,7 @@ func scanLongParquet(pf *parquetFile, fn func(d Date, asset []byte, v float64) e
 			return &FileError{File: path, Row: row + 1, Column: names[k], Err: detail(ErrNotParquet, "the column has more values than the date column")}
 		}
 	}
-	return nil
+	return checkRows(pf, row)
 }
 
 // julianEpoch is the Julian day number of 1970-01-01, the origin of INT96

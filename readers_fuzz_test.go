@@ -21,7 +21,7 @@ import (
 // fileSentinels are the reasons a reader may give for a bad file.
 var fileSentinels = []error{
 	ErrMissingColumn, ErrUnexpectedColumn, ErrMissingValue, ErrBadDate, ErrBadNumber,
-	ErrColumnType, ErrNotParquet, ErrTruncated, ErrFormat, ErrTooSparse, ErrRecordTooLarge,
+	ErrColumnType, ErrNotParquet, ErrTruncated, ErrFormat, ErrTooSparse, ErrRecordTooLarge, ErrPageTooLarge,
 	ErrEmpty, ErrDuplicate, ErrImpossible, ErrNonFinite, ErrUnsorted, ErrPeriodsPerYear,
 	// encoding/csv's own sentinels, which csvFile.wrap keeps.
 	csv.ErrQuote, csv.ErrBareQuote, csv.ErrFieldCount, csv.ErrTrailingComma,
