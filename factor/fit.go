@@ -4,11 +4,10 @@ import (
 	"fmt"
 	"math"
 
-	"gonum.org/v1/gonum/blas"
-	"gonum.org/v1/gonum/blas/blas64"
 	"gonum.org/v1/gonum/mat"
 
 	"github.com/riskmodel/riskmodel/ewma"
+	"github.com/riskmodel/riskmodel/internal/dense"
 )
 
 // Fit builds a statistical factor model from the T×N returns x (rows are
@@ -308,7 +307,7 @@ func (d *data) impute(s resolved, p pcs, k int) (pcs, Imputation) {
 // missing cells, and returns it.
 func (d *data) residuals(ret, b *mat.Dense) *mat.Dense {
 	if b != nil {
-		blas64.Gemm(blas.NoTrans, blas.Trans, -1, ret.RawMatrix(), b.RawMatrix(), 1, d.z.RawMatrix())
+		dense.SubMul(d.z, ret, b.T())
 	}
 	raw := d.z.RawMatrix()
 	_, n := d.z.Dims()

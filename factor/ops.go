@@ -91,7 +91,7 @@ func (m *Model) SqrtTo(g *mat.Dense, s []float64) (*mat.Dense, []float64) {
 func (m *Model) CovarianceTo(dst *mat.SymDense) *mat.SymDense {
 	dst = symDst(dst, m.n)
 	if m.k > 0 {
-		dense.XtWX(dst, mat.DenseCopyOf(m.bl.T()), nil)
+		dense.XtWX(dst, m.bl.T(), nil) // (B·L)·(B·L)ᵀ, read in place
 	} else {
 		dst.Zero()
 	}

@@ -4,8 +4,6 @@ import (
 	"math"
 	"math/rand/v2"
 
-	"gonum.org/v1/gonum/blas"
-	"gonum.org/v1/gonum/blas/blas64"
 	"gonum.org/v1/gonum/lapack/lapack64"
 	"gonum.org/v1/gonum/mat"
 
@@ -28,9 +26,9 @@ type pcs struct {
 // 2011, Algorithms 4.4 and 5.1): a Gaussian test matrix of l = r + over
 // columns (or the warm start, an N×l matrix such as the previous right
 // singular vectors), iters passes of orthonormalized power iteration, then an
-// exact SVD of the small projected matrix. All products are gonum Dgemm calls,
-// which split the output into blocks with a fixed summation order, so the
-// result does not depend on GOMAXPROCS. Cost O(T·N·l·(2·iters + 2)).
+// exact SVD of the small projected matrix. All products run on the kernel of
+// internal/dense on all cores, which sums every element in a fixed order, so
+// the result does not depend on GOMAXPROCS. Cost O(T·N·l·(2·iters + 2)).
 func randomizedSVD(a *mat.Dense, r, over, iters int, seed uint64, start *mat.Dense) pcs {
 	t, n := a.Dims()
 	l := min(r+over, t, n)
@@ -45,19 +43,17 @@ func randomizedSVD(a *mat.Dense, r, over, iters int, seed uint64, start *mat.Den
 	} else {
 		gaussian(omega, seed)
 	}
-	raw := a.RawMatrix()
-	q := mat.NewDense(t, l, nil)
+	q := dense.Mul(mat.NewDense(t, l, nil), a, omega)
 	z := mat.NewDense(n, l, nil)
-	blas64.Gemm(blas.NoTrans, blas.NoTrans, 1, raw, omega.RawMatrix(), 0, q.RawMatrix())
 	orthonormalize(q)
 	for i := 0; i < iters; i++ {
-		blas64.Gemm(blas.Trans, blas.NoTrans, 1, raw, q.RawMatrix(), 0, z.RawMatrix())
+		dense.MulTA(z, a, q)
 		orthonormalize(z)
-		blas64.Gemm(blas.NoTrans, blas.NoTrans, 1, raw, z.RawMatrix(), 0, q.RawMatrix())
+		dense.Mul(q, a, z)
 		orthonormalize(q)
 	}
 	// Bᵀ = AᵀQ (N×l) = Q₂R₂; R₂ = P·Σ·Wᵀ; so A ≈ Q·Bᵀᵀ = (Q·W)·Σ·(Q₂·P)ᵀ.
-	blas64.Gemm(blas.Trans, blas.NoTrans, 1, raw, q.RawMatrix(), 0, z.RawMatrix())
+	dense.MulTA(z, a, q)
 	rr := orthonormalize(z)
 	var svd mat.SVD
 	if !svd.Factorize(rr, mat.SVDFull) {
@@ -68,8 +64,8 @@ func randomizedSVD(a *mat.Dense, r, over, iters int, seed uint64, start *mat.Den
 	svd.UTo(&p)
 	svd.VTo(&w)
 	out := pcs{u: mat.NewDense(t, r, nil), v: mat.NewDense(n, r, nil), s: s[:r]}
-	out.u.Mul(q, w.Slice(0, l, 0, r))
-	out.v.Mul(z, p.Slice(0, l, 0, r))
+	dense.Mul(out.u, q, w.Slice(0, l, 0, r))
+	dense.Mul(out.v, z, p.Slice(0, l, 0, r))
 	out.sq = make([]float64, l)
 	for i, v := range s {
 		out.sq[i] = v * v
@@ -138,10 +134,10 @@ func gramSVD(a *mat.Dense, r, over, iters int, seed uint64) (pcs, bool) {
 	}
 	other := mat.NewDense(rows, r, nil)
 	if n > t {
-		other.Mul(a.T(), top)
+		dense.MulTA(other, a, top)
 		out.u, out.v = top, other
 	} else {
-		other.Mul(a, top)
+		dense.Mul(other, a, top)
 		out.u, out.v = other, top
 	}
 	for j := 0; j < r; j++ {
@@ -164,16 +160,15 @@ func subspaceEig(g *mat.SymDense, r, over, iters int, seed uint64) ([]float64, *
 	gaussian(q, seed)
 	y := mat.NewDense(m, l, nil)
 	full := mat.NewDense(m, m, nil)
-	full.Copy(g) // a general copy so the product runs on gonum's parallel Dgemm
+	full.Copy(g) // a general copy the kernel reads in place
 	for i := 0; i <= iters; i++ {
-		y.Mul(full, q)
+		dense.Mul(y, full, q)
 		q, y = y, q
 		orthonormalize(q)
 	}
-	y.Mul(full, q)
+	dense.Mul(y, full, q)
 	h := mat.NewSymDense(l, nil)
-	var hq mat.Dense
-	hq.Mul(q.T(), y)
+	hq := dense.MulTA(nil, q, y)
 	for i := 0; i < l; i++ {
 		for j := i; j < l; j++ {
 			h.SetSym(i, j, 0.5*(hq.At(i, j)+hq.At(j, i)))
@@ -196,9 +191,7 @@ func subspaceEig(g *mat.SymDense, r, over, iters int, seed uint64) ([]float64, *
 			wr.Set(i, j, w.At(i, l-1-j))
 		}
 	}
-	top := mat.NewDense(m, r, nil)
-	top.Mul(q, wr)
-	return vals, top, true
+	return vals, dense.Mul(nil, q, wr), true
 }
 
 // fixSigns makes the largest-magnitude entry of each right singular vector
