@@ -4,6 +4,8 @@ import (
 	"math"
 
 	"gonum.org/v1/gonum/mat"
+
+	"github.com/riskmodel/riskmodel/internal/dense"
 )
 
 // finishCov writes the covariance of m into dst (upper triangle, then
@@ -135,8 +137,7 @@ func makePSD(a *mat.SymDense) *Repair {
 			v.Set(i, j, v.At(i, j)*s)
 		}
 	}
-	b := mat.NewSymDense(n, nil)
-	b.SymOuterK(1, &v)
+	b := dense.XtWX(nil, v.T(), nil) // V·Vᵀ
 	scale := make([]float64, n)
 	for i := range scale {
 		scale[i] = 1

@@ -4,6 +4,8 @@ import (
 	"math"
 
 	"gonum.org/v1/gonum/mat"
+
+	"github.com/riskmodel/riskmodel/internal/dense"
 )
 
 // AutoLags asks for the automatic Newey–West lag NeweyWestLag(T).
@@ -141,7 +143,7 @@ func addLagTerms(dst *mat.SymDense, d *panelData, m *sums, lags int, o Options) 
 	y := d.centred(o.Demean)
 	z := d.lagZ(y, lags)
 	var g mat.Dense
-	g.Mul(mat.NewDense(t, n, y).T(), mat.NewDense(t, n, z))
+	dense.MulTA(&g, mat.NewDense(t, n, y), mat.NewDense(t, n, z))
 	raw := dst.RawSymmetric()
 	for i := 0; i < n; i++ {
 		for k := i; k < n; k++ {

@@ -219,9 +219,8 @@ func (d *panelData) products(demean, needQ bool) *sums {
 				wm[k] = d.w[i] * d.mask[k]
 			}
 		}
-		// A general product: q is not symmetric. gonum's Dgemm uses all cores.
-		q := mat.NewDense(n, n, nil)
-		q.Mul(mat.NewDense(t, n, sq).T(), mat.NewDense(t, n, wm))
+		// A general product: q is not symmetric.
+		q := dense.MulTA(nil, mat.NewDense(t, n, sq), mat.NewDense(t, n, wm))
 		m.q = q.RawMatrix().Data
 	}
 	m.cnt = dense.XtWX(nil, mk, ind).RawSymmetric().Data
