@@ -27,7 +27,7 @@ func rowSpectrum(b *mat.Dense) ([]float64, *mat.Dense, error) {
 	top := vals[t-1]
 	lim := float64(n) * eps * 16 * math.Abs(top)
 	var u mat.Dense
-	u.Mul(v, b) // row k: v_kᵀB = (Bᵀv_k)ᵀ
+	dense.Mul(&u, v, b) // row k: v_kᵀB = (Bᵀv_k)ᵀ
 	for k, l := range vals {
 		row := u.RawRowView(k)
 		if l <= lim {
