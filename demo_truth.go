@@ -38,7 +38,7 @@ func (d *Demo) SpecificReturnsTo(dst *mat.Dense) *mat.Dense {
 func (d *Demo) TrueReturnsTo(dst *mat.Dense) *mat.Dense {
 	t, n := d.e.Dims()
 	dst = sizeDense(dst, t, n)
-	dst.Mul(d.f, d.b.T())
+	dense.Mul(dst, d.f, d.b.T())
 	dst.Add(dst, d.e)
 	return dst
 }

@@ -5,6 +5,8 @@ import (
 
 	"gonum.org/v1/gonum/mat"
 	"gonum.org/v1/gonum/stat/distuv"
+
+	"github.com/riskmodel/riskmodel/internal/dense"
 )
 
 // Statistics of the evaluation: intervals with a known distribution, the bias
@@ -137,11 +139,9 @@ func frobeniusLoss(est *mat.SymDense, truth *mat.SymDense) float64 {
 // equation number is from memory, not verified: their Definition 1).
 func mvLoss(inv, truth *mat.SymDense, trueInvTrace float64) float64 {
 	n := truth.SymmetricDim()
-	// Full dense copies, so that the product runs in the multi-core Dgemm
-	// rather than gonum's element-wise path for two symmetric operands.
+	// Full dense copies, which the kernel reads in place.
 	iv, tv := evalFull(inv), evalFull(truth)
-	var m mat.Dense
-	m.Mul(tv, iv) // ΣΣ̂⁻¹
+	m := dense.Mul(nil, tv, iv) // ΣΣ̂⁻¹
 	var num, tr float64
 	for i := 0; i < n; i++ {
 		ir := iv.RawRowView(i)
