@@ -24,7 +24,7 @@ import (
 // CovarianceTo panics with mat.ErrShape if len(w) ≠ T or dst is neither
 // empty nor N×N; a nil dst panics as gonum's fill methods do, so pass
 // &mat.SymDense{} to allocate. It returns an error wrapping ErrWeight,
-// ErrNonFinite (an Inf in x), ErrAllMissing, ErrTooFew (a column or pair with
+// ErrNonFinite (an Inf in x, or an entry that overflows), ErrAllMissing, ErrTooFew (a column or pair with
 // fewer than 2 common observations) or ErrEffectiveObs (a pair below
 // opts.MinEffectiveObs). Cost: one to four O(T·N²) products on all cores
 // through internal/dense, plus O(N³) for the check when data are missing.

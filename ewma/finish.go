@@ -10,7 +10,8 @@ import (
 
 // finishCov writes the covariance of m into dst (upper triangle, then
 // symmetric) and fills the observation fields of rep. It does not check
-// positive semidefiniteness. unbiased applies the Σw² correction.
+// positive semidefiniteness. unbiased applies the Σw² correction. An entry
+// that overflows (returns near 1e154 or above) is ErrNonFinite.
 func finishCov(dst *mat.SymDense, m *sums, o Options, unbiased bool, rep *Report) error {
 	n := m.n
 	raw := dst.RawSymmetric()
@@ -33,6 +34,10 @@ func finishCov(dst *mat.SymDense, m *sums, o Options, unbiased bool, rep *Report
 			}
 			if unbiased {
 				c *= wt * wt / (wt*wt - w2)
+			}
+			if math.IsInf(c, 0) || math.IsNaN(c) {
+				// Finite returns whose products overflow float64.
+				return errAt(ErrNonFinite, -1, i, j, c)
 			}
 			raw.Data[i*raw.Stride+j] = c
 		}

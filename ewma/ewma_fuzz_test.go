@@ -1,0 +1,249 @@
+package ewma
+
+import (
+	"errors"
+	"math"
+	"strings"
+	"testing"
+
+	"gonum.org/v1/gonum/mat"
+)
+
+// The fuzz targets decode arbitrary bytes into valid shapes (so that shape
+// panics, which are documented programmer errors, cannot occur) and check
+// that every estimator either returns an error wrapping one of the package's
+// sentinels, with the sentinel's text in its message, or a finite, symmetric,
+// positive semidefinite matrix. The seed corpora run in every `go test`.
+
+var sentinels = []error{ErrHalfLife, ErrDecay, ErrLength, ErrWeight, ErrNonFinite,
+	ErrAllMissing, ErrTooFew, ErrEffectiveObs, ErrZeroVariance, ErrLags, ErrState}
+
+// fuzzBytes hands out the fuzz input a byte at a time, then zeros.
+type fuzzBytes []byte
+
+func (b *fuzzBytes) next() byte {
+	if len(*b) == 0 {
+		return 0
+	}
+	c := (*b)[0]
+	*b = (*b)[1:]
+	return c
+}
+
+// value decodes one byte: a few codes are NaN (missing), ±Inf, zero or a
+// huge or tiny number; the others are multiples of 0.01 in [−1.27, 1.27].
+func (b *fuzzBytes) value() float64 {
+	c := b.next()
+	switch c {
+	case 0xff:
+		return math.NaN()
+	case 0xfe:
+		return math.Inf(1)
+	case 0xfd:
+		return math.Inf(-1)
+	case 0xfc:
+		return 1e150
+	case 0xfb:
+		return 1e-150
+	}
+	return float64(int8(c)) / 100
+}
+
+// matrix decodes a T×N matrix with 1 ≤ T ≤ 12, 1 ≤ N ≤ 6, all scaled by a
+// power of ten in 1e−8 … 1e7 so that scale-dependent tolerances are tested.
+func (b *fuzzBytes) matrix() *mat.Dense {
+	t, n := 1+int(b.next()%12), 1+int(b.next()%6)
+	scale := math.Pow(10, float64(int(b.next()%16)-8))
+	x := mat.NewDense(t, n, nil)
+	for i := 0; i < t; i++ {
+		for j := 0; j < n; j++ {
+			x.Set(i, j, b.value()*scale)
+		}
+	}
+	return x
+}
+
+// weights decodes nil (equal weights), a half-life's weights or raw weights.
+func (b *fuzzBytes) weights(t int) []float64 {
+	switch b.next() % 3 {
+	case 0:
+		return nil
+	case 1:
+		w, err := Weights(nil, t, 1+float64(b.next()%20))
+		if err != nil {
+			panic(err)
+		}
+		return w
+	}
+	w := make([]float64, t)
+	for i := range w {
+		w[i] = b.value()
+	}
+	return w
+}
+
+func (b *fuzzBytes) options() *Options {
+	c := b.next()
+	if c&1 == 0 {
+		return nil
+	}
+	return &Options{Demean: c&2 != 0, CompleteCase: c&4 != 0, Unbiased: c&8 != 0,
+		MinEffectiveObs: float64(c>>4) / 2}
+}
+
+// checkErr fails unless err wraps a sentinel and says so in its message.
+func checkErr(t *testing.T, err error) {
+	t.Helper()
+	for _, s := range sentinels {
+		if errors.Is(err, s) {
+			if !strings.Contains(err.Error(), s.Error()) {
+				t.Fatalf("message %q lacks %q", err, s)
+			}
+			return
+		}
+	}
+	t.Fatalf("error wraps no sentinel: %T %v", err, err)
+}
+
+// checkCov fails unless c is finite, exactly symmetric (SymDense stores one
+// triangle) and positive semidefinite: its eigenvalues are at least
+// −1e−10 times the largest absolute eigenvalue.
+func checkCov(t *testing.T, c mat.Symmetric) {
+	t.Helper()
+	n := c.SymmetricDim()
+	for i := 0; i < n; i++ {
+		for j := 0; j < n; j++ {
+			v := c.At(i, j)
+			if math.IsNaN(v) || math.IsInf(v, 0) {
+				t.Fatalf("entry (%d,%d) = %v", i, j, v)
+			}
+			if v != c.At(j, i) {
+				t.Fatalf("not symmetric at (%d,%d)", i, j)
+			}
+		}
+	}
+	var e mat.EigenSym
+	if !e.Factorize(c, false) {
+		t.Fatalf("eigendecomposition failed")
+	}
+	vals := e.Values(nil)
+	scale := math.Max(math.Abs(vals[0]), math.Abs(vals[n-1]))
+	if vals[0] < -1e-10*scale {
+		t.Fatalf("not PSD: smallest eigenvalue %g, largest %g", vals[0], vals[n-1])
+	}
+}
+
+func FuzzEstimators(f *testing.F) {
+	// t=4, n=2, scale 1; values; weights nil; options nil; which estimator.
+	f.Add([]byte{3, 1, 8, 1, 2, 3, 4, 5, 6, 7, 8, 0, 0, 0, 0})
+	f.Add([]byte{5, 2, 8, 1, 0xff, 3, 4, 5, 0xff, 7, 8, 9, 10, 11, 12, 13, 14, 15, 16, 17, 18, 1, 7, 3, 1, 2})
+	// Returns of 1e157 overflow the products: once NaN, now ErrNonFinite.
+	f.Add([]byte{11, 5, 15, 0x10, 0x20, 0x30, 0xfc, 0xfb, 0, 0, 0, 2, 0xff, 1, 0x0f, 4, 3})
+	f.Add([]byte{1, 0, 8, 5, 0, 1, 0, 3})
+	f.Add([]byte{2, 2, 0, 0xfe, 1, 2, 3, 4, 5, 6, 7, 8, 0, 1, 5})
+	f.Fuzz(func(t *testing.T, data []byte) {
+		b := fuzzBytes(data)
+		x := b.matrix()
+		rows, n := x.Dims()
+		w := b.weights(rows)
+		opts := b.options()
+		which := b.next() % 5
+		lags := int(b.next()%5) - 1 // −1 is AutoLags
+		var dst mat.SymDense
+		var err error
+		switch which {
+		case 0:
+			_, err = CovarianceTo(&dst, x, w, opts)
+		case 1:
+			_, err = CorrelationTo(&dst, x, w, opts)
+		case 2:
+			var v []float64
+			v, err = VariancesTo(nil, x, w, opts)
+			if err == nil {
+				if len(v) != n {
+					t.Fatalf("%d variances for %d columns", len(v), n)
+				}
+				for j, s := range v {
+					if !(s >= 0) || math.IsInf(s, 0) {
+						t.Fatalf("variance %d = %v", j, s)
+					}
+				}
+			}
+		case 3:
+			_, err = NeweyWestTo(&dst, x, w, lags, opts)
+		case 4:
+			s := Settings{VolHalfLife: float64(b.next() % 30), CorrHalfLife: float64(b.next() % 30), NeweyWestLags: lags}
+			if opts != nil {
+				s.Options = *opts
+			}
+			_, err = Estimate(&dst, x, s)
+		}
+		if err != nil {
+			checkErr(t, err)
+			return
+		}
+		if which != 2 {
+			checkCov(t, &dst)
+		}
+	})
+}
+
+func FuzzRecursive(f *testing.F) {
+	f.Add([]byte{4, 1, 8, 1, 2, 3, 4, 5, 6, 7, 8, 9, 10, 0, 3, 1})
+	f.Add([]byte{11, 3, 8, 0xff, 2, 3, 4, 0xff, 6, 7, 8, 9, 10, 11, 12, 13, 14, 15, 16, 17, 18, 19, 20, 21, 22, 23, 24, 3, 5, 7})
+	f.Add([]byte{6, 2, 8, 0xfe, 2, 3, 4, 5, 6, 7, 8, 9, 10, 11, 12, 13, 14, 15, 16, 17, 18, 0, 2, 0})
+	f.Fuzz(func(t *testing.T, data []byte) {
+		b := fuzzBytes(data)
+		x := b.matrix()
+		rows, n := x.Dims()
+		opts := b.options()
+		s := RecursiveSettings{HalfLife: float64(b.next() % 20), Window: int(b.next() % 8), VariancesOnly: b.next()&1 == 1}
+		if opts != nil {
+			s.Options = *opts
+		}
+		r, err := NewRecursive(n, s)
+		if err != nil {
+			checkErr(t, err)
+			return
+		}
+		for i := 0; i < rows; i++ {
+			if err := r.Update(x.RawRowView(i)); err != nil {
+				checkErr(t, err)
+				if !errors.Is(err, ErrNonFinite) {
+					t.Fatalf("Update: %v", err)
+				}
+			}
+		}
+		var dst mat.SymDense
+		if !s.VariancesOnly {
+			if _, err := r.CovarianceTo(&dst); err != nil {
+				checkErr(t, err)
+			} else {
+				checkCov(t, &dst)
+			}
+		}
+		if v, err := r.VariancesTo(nil); err != nil {
+			checkErr(t, err)
+		} else {
+			for j, s := range v {
+				if !(s >= 0) || math.IsInf(s, 0) {
+					t.Fatalf("variance %d = %v", j, s)
+				}
+			}
+		}
+		// The state survives a round trip through its binary form.
+		bin, err := r.MarshalBinary()
+		if err != nil {
+			t.Fatal(err)
+		}
+		var back Recursive
+		if err := back.UnmarshalBinary(bin); err != nil {
+			t.Fatalf("UnmarshalBinary of MarshalBinary: %v", err)
+		}
+		// Arbitrary bytes as a state are an error, never a panic.
+		var junk Recursive
+		if err := junk.UnmarshalBinary(data); err != nil {
+			checkErr(t, err)
+		}
+	})
+}
