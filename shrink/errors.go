@@ -15,6 +15,7 @@ var (
 	ErrNotConverged = errors.New("shrink: iteration did not converge")
 	ErrBadParameter = errors.New("shrink: invalid parameter")
 	ErrNoEigen      = errors.New("shrink: eigendecomposition failed")
+	ErrOverflow     = errors.New("shrink: value above MaxValue, its fourth power would overflow")
 )
 
 // DataError reports bad data and where it is. Row is a row (date) index of the

@@ -23,6 +23,11 @@ func (s *sample) weight(t int) float64 {
 	return s.omega[t]
 }
 
+// MaxValue is the largest magnitude of a return the estimators accept: the
+// fourth moments of Ledoit–Wolf's intensity and the like must not overflow
+// float64, and (1e70)⁴ = 1e280 leaves room for sums over any panel.
+const MaxValue = 1e70
+
 // newSample validates x and w and centres x on its weighted column means.
 // minObs is the smallest number of rows (and of positive weights) allowed.
 // It panics with mat.ErrShape when len(w) is not T.
@@ -46,6 +51,9 @@ func newSample(x mat.Matrix, w []float64, minObs int) (*sample, error) {
 			}
 			if math.IsNaN(v) || math.IsInf(v, 0) {
 				return nil, &DataError{Row: i, Col: j, Value: v, Err: ErrNonFinite}
+			}
+			if math.Abs(v) > MaxValue {
+				return nil, &DataError{Row: i, Col: j, Value: v, Err: ErrOverflow}
 			}
 			row[j] = v
 		}

@@ -1,0 +1,283 @@
+package shrink
+
+import (
+	"errors"
+	"math"
+	"strings"
+	"testing"
+
+	"gonum.org/v1/gonum/mat"
+)
+
+// The fuzz targets decode arbitrary bytes into valid shapes (shape panics
+// are documented programmer errors) and check that every estimator and
+// conditioning tool returns either an error wrapping one of the package's
+// sentinels, with its text in the message, or a finite, symmetric, positive
+// semidefinite matrix. The seed corpora run in every `go test`.
+
+var sentinels = []error{ErrNonFinite, ErrTooFewObs, ErrZeroVariance, ErrWeights,
+	ErrNotSymmetric, ErrNotConverged, ErrBadParameter, ErrNoEigen, ErrRankDeficient, ErrOverflow}
+
+// fuzzBytes hands out the fuzz input a byte at a time, then zeros.
+type fuzzBytes []byte
+
+func (b *fuzzBytes) next() byte {
+	if len(*b) == 0 {
+		return 0
+	}
+	c := (*b)[0]
+	*b = (*b)[1:]
+	return c
+}
+
+// value decodes one byte: a few codes are NaN, ±Inf or a huge or tiny
+// number; the others are multiples of 0.01 in [−1.27, 1.27].
+func (b *fuzzBytes) value() float64 {
+	switch c := b.next(); c {
+	case 0xff:
+		return math.NaN()
+	case 0xfe:
+		return math.Inf(1)
+	case 0xfd:
+		return math.Inf(-1)
+	case 0xfc:
+		return 1e150
+	case 0xfb:
+		return 1e-150
+	default:
+		return float64(int8(c)) / 100
+	}
+}
+
+// matrix decodes a T×N matrix, 1 ≤ T ≤ 12, 1 ≤ N ≤ 6, scaled by a power of
+// ten in 1e−8 … 1e7.
+func (b *fuzzBytes) matrix() *mat.Dense {
+	t, n := 1+int(b.next()%12), 1+int(b.next()%6)
+	scale := math.Pow(10, float64(int(b.next()%16)-8))
+	x := mat.NewDense(t, n, nil)
+	for i := 0; i < t; i++ {
+		for j := 0; j < n; j++ {
+			x.Set(i, j, b.value()*scale)
+		}
+	}
+	return x
+}
+
+// symmetric decodes an N×N symmetric matrix, 1 ≤ N ≤ 6, with a unit
+// diagonal when corr is set (a candidate correlation matrix).
+func (b *fuzzBytes) symmetric() *mat.SymDense {
+	n := 1 + int(b.next()%6)
+	scale := math.Pow(10, float64(int(b.next()%16)-8))
+	a := mat.NewSymDense(n, nil)
+	for i := 0; i < n; i++ {
+		for j := i; j < n; j++ {
+			a.SetSym(i, j, b.value()*scale)
+		}
+	}
+	return a
+}
+
+// weights decodes nil (equal weights) or raw weights.
+func (b *fuzzBytes) weights(t int) []float64 {
+	if b.next()%2 == 0 {
+		return nil
+	}
+	w := make([]float64, t)
+	for i := range w {
+		w[i] = b.value()
+	}
+	return w
+}
+
+func checkErr(t *testing.T, err error) {
+	t.Helper()
+	for _, s := range sentinels {
+		if errors.Is(err, s) {
+			if !strings.Contains(err.Error(), s.Error()) {
+				t.Fatalf("message %q lacks %q", err, s)
+			}
+			return
+		}
+	}
+	t.Fatalf("error wraps no sentinel: %T %v", err, err)
+}
+
+// checkCov fails unless c is finite, symmetric and positive semidefinite
+// (eigenvalues ≥ −1e−10 · max|λ|).
+func checkCov(t *testing.T, c mat.Symmetric) {
+	t.Helper()
+	n := c.SymmetricDim()
+	for i := 0; i < n; i++ {
+		for j := 0; j < n; j++ {
+			v := c.At(i, j)
+			if math.IsNaN(v) || math.IsInf(v, 0) {
+				t.Fatalf("entry (%d,%d) = %v", i, j, v)
+			}
+			if v != c.At(j, i) {
+				t.Fatalf("not symmetric at (%d,%d)", i, j)
+			}
+		}
+	}
+	var e mat.EigenSym
+	if !e.Factorize(c, false) {
+		t.Fatalf("eigendecomposition failed")
+	}
+	vals := e.Values(nil)
+	scale := math.Max(math.Abs(vals[0]), math.Abs(vals[n-1]))
+	if vals[0] < -1e-10*scale {
+		t.Fatalf("not PSD: smallest eigenvalue %g, largest %g", vals[0], vals[n-1])
+	}
+}
+
+// checkIntensity fails unless a shrinkage intensity is in [0, 1].
+func checkIntensity(t *testing.T, s float64) {
+	t.Helper()
+	if !(s >= 0 && s <= 1) {
+		t.Fatalf("intensity %v outside [0, 1]", s)
+	}
+}
+
+func FuzzEstimators(f *testing.F) {
+	for k := byte(0); k < 11; k++ {
+		f.Add([]byte{5, 2, 8, 1, 2, 3, 4, 5, 6, 7, 8, 9, 10, 11, 12, 13, 14, 15, 16, 17, 18, 0, k})
+	}
+	f.Add([]byte{2, 4, 8, 1, 2, 3, 4, 5, 6, 7, 8, 9, 10, 11, 12, 13, 14, 15, 16, 17, 18, 0, 9})
+	// Returns of 1e157 overflowed the fourth moments into a NaN matrix; now ErrOverflow.
+	f.Add([]byte{7, 1, 15, 0xfc, 0xfb, 0, 0, 1, 2, 3, 4, 0, 1})
+	f.Add([]byte{3, 2, 8, 1, 1, 2, 2, 3, 3, 4, 4, 5, 5, 6, 6, 1, 10, 0xff, 20, 30, 40, 50, 60, 70, 80, 5})
+	f.Fuzz(func(t *testing.T, data []byte) {
+		b := fuzzBytes(data)
+		x := b.matrix()
+		rows, _ := x.Dims()
+		w := b.weights(rows)
+		which := b.next() % 11
+		var (
+			dst = &mat.SymDense{}
+			err error
+		)
+		switch which {
+		case 0:
+			var r LinearResult
+			dst, r, err = LedoitWolf(dst, x, w)
+			if err == nil {
+				checkIntensity(t, r.Intensity)
+			}
+		case 1:
+			var r LinearResult
+			dst, r, err = OAS(dst, x, w)
+			if err == nil {
+				checkIntensity(t, r.Intensity)
+			}
+		case 2:
+			dst, _, err = ConstantCorrelation(dst, x, w)
+		case 3:
+			dst, _, err = SingleIndex(dst, x, w)
+		case 4:
+			dst, _, err = SchaferStrimmer(dst, x, w)
+		case 5:
+			dst, _, err = Nonlinear(dst, x, w)
+		case 6:
+			dst, _, err = ClipMarchenkoPastur(dst, x, w)
+		case 7, 8:
+			var m *Implicit
+			if which == 7 {
+				m, _, err = LedoitWolfImplicit(x, w)
+			} else {
+				m, _, err = OASImplicit(x, w)
+			}
+			if err == nil {
+				dst = m.DenseTo(nil)
+				checkImplicit(t, m, dst)
+			}
+		case 9:
+			var r LinearResult
+			r, err = LedoitWolfIntensity(x, w)
+			if err == nil {
+				checkIntensity(t, r.Intensity)
+			}
+			return
+		case 10:
+			var r LinearResult
+			r, err = OASIntensity(x, w)
+			if err == nil {
+				checkIntensity(t, r.Intensity)
+			}
+			return
+		}
+		if err != nil {
+			checkErr(t, err)
+			return
+		}
+		checkCov(t, dst)
+	})
+}
+
+// checkImplicit compares the implicit matrix's products with its dense form.
+func checkImplicit(t *testing.T, m *Implicit, d *mat.SymDense) {
+	t.Helper()
+	n := m.SymmetricDim()
+	x := make([]float64, n)
+	for i := range x {
+		x[i] = float64(i%3) - 1
+	}
+	got := m.MulVecTo(nil, x)
+	var want mat.VecDense
+	want.MulVec(d, mat.NewVecDense(n, x))
+	scale := mat.Norm(d, 1)
+	for i := range got {
+		if math.Abs(got[i]-want.AtVec(i)) > 1e-9*scale {
+			t.Fatalf("MulVecTo %v, dense %v", got, want.RawVector().Data)
+		}
+		if m.At(i, i) != d.At(i, i) && math.Abs(m.At(i, i)-d.At(i, i)) > 1e-12*scale {
+			t.Fatalf("At(%d,%d) %v, dense %v", i, i, m.At(i, i), d.At(i, i))
+		}
+	}
+	if q := m.QuadForm(x); q < -1e-10*scale*float64(n) {
+		t.Fatalf("QuadForm %v < 0", q)
+	}
+}
+
+func FuzzConditioning(f *testing.F) {
+	for k := byte(0); k < 4; k++ {
+		f.Add([]byte{2, 8, 100, 50, 20, 100, 90, 100, k, 10})
+	}
+	f.Add([]byte{3, 8, 100, 120, 130, 100, 0x81, 100, 0xff, 0, 5})
+	f.Add([]byte{0, 15, 0xfc, 1, 0})
+	f.Fuzz(func(t *testing.T, data []byte) {
+		b := fuzzBytes(data)
+		a := b.symmetric()
+		which := b.next() % 4
+		param := float64(b.next()) // a floor's or a condition cap's raw byte
+		var (
+			dst = &mat.SymDense{}
+			err error
+		)
+		switch which {
+		case 0:
+			dst, _, err = NearestPSD(dst, a, param/100*math.Abs(a.At(0, 0)))
+		case 1:
+			dst, _, err = CapCondition(dst, a, param)
+		case 2:
+			var c float64
+			c, err = Condition(a)
+			if err == nil && !(c >= 1) {
+				t.Fatalf("condition number %v", c)
+			}
+			return
+		case 3:
+			dst, _, err = NearestCorrelation(dst, a, &NearCorrOptions{MaxIter: 200})
+			if err == nil {
+				for i := 0; i < dst.SymmetricDim(); i++ {
+					if math.Abs(dst.At(i, i)-1) > 1e-12 {
+						t.Fatalf("diagonal %d = %v", i, dst.At(i, i))
+					}
+				}
+			}
+		}
+		if err != nil {
+			checkErr(t, err)
+			return
+		}
+		checkCov(t, dst)
+	})
+}
