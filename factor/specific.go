@@ -10,11 +10,30 @@ import (
 	"github.com/riskmodel/riskmodel/ewma"
 )
 
+// specificRule is how residual variances become specific variances, the
+// rule described in Fit and shared by every model builder of the package.
+type specificRule struct {
+	HalfLife float64  // of the exponential weights; required
+	Groups   []string // shrinkage groups; nil is one group
+	Shrink   float64  // fixed intensity in (0, 1]; 0 estimates it per group
+	NoShrink bool
+	Floor    float64 // the smallest variance; 0 means 1 % of the median
+}
+
 // specificVariances returns the shrunk and floored residual variances
 // described in Fit, and the report of what was done.
 func specificVariances(resid *mat.Dense, s resolved) ([]float64, Specific, error) {
+	return specificRule{
+		HalfLife: s.SpecificHalfLife, Groups: s.Groups, Shrink: s.SpecificShrink,
+		NoShrink: s.NoSpecificShrink, Floor: s.SpecificFloor,
+	}.apply(resid)
+}
+
+// apply returns the specific variances of the T×N residuals (NaN missing)
+// and the report of what was done.
+func (s specificRule) apply(resid *mat.Dense) ([]float64, Specific, error) {
 	t, n := resid.Dims()
-	w, err := ewma.Weights(nil, t, s.SpecificHalfLife)
+	w, err := ewma.Weights(nil, t, s.HalfLife)
 	if err != nil {
 		return nil, Specific{}, fmt.Errorf("%w: SpecificHalfLife: %w", ErrSettings, err)
 	}
@@ -51,10 +70,10 @@ func specificVariances(resid *mat.Dense, s resolved) ([]float64, Specific, error
 
 	shrink := make([]float64, ng)
 	switch {
-	case s.NoSpecificShrink:
-	case s.SpecificShrink > 0:
+	case s.NoShrink:
+	case s.Shrink > 0:
 		for g := range shrink {
-			shrink[g] = s.SpecificShrink
+			shrink[g] = s.Shrink
 		}
 	default:
 		num := make([]float64, ng)
@@ -76,7 +95,7 @@ func specificVariances(resid *mat.Dense, s resolved) ([]float64, Specific, error
 		g := member[i]
 		out[i] = (1-shrink[g])*v + shrink[g]*mean[g]
 	}
-	floor := s.SpecificFloor
+	floor := s.Floor
 	if floor == 0 {
 		sorted := slices.Clone(out)
 		slices.Sort(sorted)
