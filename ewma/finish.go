@@ -35,6 +35,11 @@ func finishCov(dst *mat.SymDense, m *sums, o Options, unbiased bool, rep *Report
 			if unbiased {
 				c *= wt * wt / (wt*wt - w2)
 			}
+			if i == j && c < 0 {
+				// A rounding residue (demeaning, or the recursive state's
+				// window subtraction) for a (nearly) constant column.
+				c = 0
+			}
 			if math.IsInf(c, 0) || math.IsNaN(c) {
 				// Finite returns whose products overflow float64.
 				return errAt(ErrNonFinite, -1, i, j, c)

@@ -363,7 +363,9 @@ func (r *Recursive) VariancesTo(dst []float64) ([]float64, error) {
 		if r.opts.Unbiased {
 			v *= wt * wt / (wt*wt - w2)
 		}
-		dst[i] = v
+		// Taking the oldest day out of the sums can leave a rounding
+		// residue just below zero for a (nearly) constant column.
+		dst[i] = max(v, 0)
 	}
 	return dst, nil
 }
