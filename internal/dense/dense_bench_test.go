@@ -156,3 +156,55 @@ func BenchmarkPeak(b *testing.B) {
 		})
 	}
 }
+
+// BenchmarkSkinny times the products of a randomized SVD of a T×N = 1000×3000
+// panel with a sketch of l = 35 columns (A·Ω and Aᵀ·Q, 2·T·N·l flops each)
+// and the residuals of K = 20 factors (A − R·Bᵀ, 2·T·N·K flops), against
+// gonum's Dense.Mul and blas64.Gemm on the same operands.
+func BenchmarkSkinny(b *testing.B) {
+	const t, n, l, k = 1000, 3000, 35, 20
+	a := benchMatrix(t, n)
+	omega := benchMatrix(n, l)
+	q := benchMatrix(t, l)
+	r := benchMatrix(t, k)
+	ld := benchMatrix(n, k)
+	for _, c := range []struct {
+		name  string
+		flops float64
+		ours  func()
+		gonum func()
+	}{
+		{
+			name: "A·Ω", flops: 2 * t * n * l,
+			ours:  func() { Mul(mat.NewDense(t, l, nil), a, omega) },
+			gonum: func() { mat.NewDense(t, l, nil).Mul(a, omega) },
+		},
+		{
+			name: "AᵀQ", flops: 2 * t * n * l,
+			ours:  func() { MulTA(mat.NewDense(n, l, nil), a, q) },
+			gonum: func() { mat.NewDense(n, l, nil).Mul(a.T(), q) },
+		},
+		{
+			name: "A−RBᵀ", flops: 2 * t * n * k,
+			ours: func() { SubMul(a, r, ld.T()) },
+			gonum: func() {
+				blas64.Gemm(blas.NoTrans, blas.Trans, -1, r.RawMatrix(), ld.RawMatrix(), 1, a.RawMatrix())
+			},
+		},
+	} {
+		b.Run(c.name+"/dense", func(b *testing.B) {
+			b.ReportAllocs()
+			for b.Loop() {
+				c.ours()
+			}
+			reportFlops(b, c.flops)
+		})
+		b.Run(c.name+"/gonum", func(b *testing.B) {
+			b.ReportAllocs()
+			for b.Loop() {
+				c.gonum()
+			}
+			reportFlops(b, c.flops)
+		})
+	}
+}
