@@ -151,8 +151,11 @@ func makePSD(a *mat.SymDense) *Repair {
 	scale := make([]float64, n)
 	for i := range scale {
 		scale[i] = 1
-		if d := b.At(i, i); d > 0 {
-			scale[i] = math.Sqrt(a.At(i, i) / d)
+		// A diagonal that is not positive (a Newey–West variance can be
+		// negative) cannot be restored: keep the clipped matrix's there,
+		// rather than a NaN from the square root of a negative ratio.
+		if d, o := b.At(i, i), a.At(i, i); d > 0 && o > 0 {
+			scale[i] = math.Sqrt(o / d)
 		}
 	}
 	for i := 0; i < n; i++ {

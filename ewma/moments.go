@@ -1,6 +1,10 @@
 package ewma
 
-import "gonum.org/v1/gonum/mat"
+import (
+	"math"
+
+	"gonum.org/v1/gonum/mat"
+)
 
 // MeansTo sets dst to the weighted mean of each column of the T×N matrix x
 // over its own observations and returns dst:
@@ -95,6 +99,10 @@ func VariancesTo(dst []float64, x mat.Matrix, w []float64, opts *Options) ([]flo
 		v := ss[j] / tot[j]
 		if o.Unbiased {
 			v *= tot[j] * tot[j] / (tot[j]*tot[j] - tot2[j])
+		}
+		if math.IsInf(v, 0) || math.IsNaN(v) {
+			// Finite returns whose squares overflow float64.
+			return dst, errAt(ErrNonFinite, -1, j, -1, v)
 		}
 		dst[j] = v
 	}

@@ -363,6 +363,10 @@ func (r *Recursive) VariancesTo(dst []float64) ([]float64, error) {
 		if r.opts.Unbiased {
 			v *= wt * wt / (wt*wt - w2)
 		}
+		if math.IsInf(v, 0) || math.IsNaN(v) {
+			// Finite returns whose squares overflow float64.
+			return dst, errAt(ErrNonFinite, -1, i, -1, v)
+		}
 		// Taking the oldest day out of the sums can leave a rounding
 		// residue just below zero for a (nearly) constant column.
 		dst[i] = max(v, 0)

@@ -37,7 +37,8 @@ type SchaferResult struct {
 // correlations and a variance shrunk toward the median (counted in
 // ZeroVar); one asset gives λ = λ_v = 1.
 //
-// Errors: those of LedoitWolf, with ErrTooFewObs below 3 rows (as corpcor).
+// Errors: those of LedoitWolf, with ErrTooFewObs below 3 rows (as corpcor)
+// or when one weight carries all the mass (1 − Σω² ≤ 1e−12).
 // Panics as LedoitWolf. Cost: one N×N cross-product, O(T·N²).
 //
 // References: Schäfer, J. and Strimmer, K. (2005), "A shrinkage approach to
@@ -50,6 +51,11 @@ func SchaferStrimmer(dst *mat.SymDense, x mat.Matrix, w []float64) (*mat.SymDens
 	s, err := newSample(x, w, 3)
 	if err != nil {
 		return dst, SchaferResult{}, err
+	}
+	if !(1-s.w2 > 1e-12) {
+		// One weight carries (nearly) all the mass: the unbiased divisor
+		// 1 − Σω² vanishes, leaving one effective observation.
+		return dst, SchaferResult{}, &DataError{Row: -1, Col: -1, Value: 1 / s.w2, Err: ErrTooFewObs}
 	}
 	cov := s.covTo(dst)
 	n := s.n
