@@ -471,3 +471,43 @@ func TestSelectedKernel(t *testing.T) {
 		require.True(t, ts >= 2*unit && ts <= tile, "m %d: tile %d", m, ts)
 	}
 }
+
+// TestChunkedReduction: cutting a long reduction into chunks that bound the
+// packing memory changes no bit of any product, on every kernel.
+func TestChunkedReduction(t *testing.T) {
+	rng := rand.New(rand.NewPCG(13, 14))
+	tt, n := 1100, 70 // five blocks of kc, chunks of one to two blocks
+	x := randMatrix(rng, tt, n)
+	w := randWeights(rng, tt)
+	y := randMatrix(rng, tt, 9)
+	c0 := randMatrix(rng, n, 9)
+	all := func() [][]float64 {
+		return [][]float64{
+			XtWX(nil, x, w).RawSymmetric().Data,
+			XtWX(nil, x, nil).RawSymmetric().Data,
+			XWXt(nil, x.T(), w[:n]).RawSymmetric().Data,
+			MulTA(nil, x, y).RawMatrix().Data,
+			Mul(nil, x.T(), y).RawMatrix().Data,
+			SubMul(mat.DenseCopyOf(c0), x.T(), y).RawMatrix().Data,
+		}
+	}
+	saved := maxPack
+	defer func() { maxPack = saved }()
+	for _, k := range kernels() {
+		withKernel(k, func() {
+			maxPack = saved
+			want := all()
+			for _, mp := range []int{1, 300 * n, 600 * n} {
+				maxPack = mp
+				got := all()
+				for i := range want {
+					for e := range want[i] {
+						if math.Float64bits(want[i][e]) != math.Float64bits(got[i][e]) {
+							t.Fatalf("kernel %s, maxPack %d, product %d element %d: %v, unchunked %v", k.name, mp, i, e, got[i][e], want[i][e])
+						}
+					}
+				}
+			}
+		})
+	}
+}

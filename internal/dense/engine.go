@@ -42,6 +42,24 @@ type operand struct {
 	kw, iw []float64
 }
 
+// maxPack bounds the values packed for one chunk of a product's reduction
+// (32 MiB): a T×N operand of 10000×2500 would otherwise be copied whole.
+var maxPack = 1 << 22
+
+// from returns the operand of reductions k0, k0+1, … of op.
+func (op *operand) from(k0 int) *operand {
+	r := *op
+	if op.trans {
+		r.data = op.data[k0:]
+	} else {
+		r.data = op.data[k0*op.stride:]
+	}
+	if op.kw != nil {
+		r.kw = op.kw[k0:]
+	}
+	return &r
+}
+
 // packed is an operand copied into slivers r indices wide: for each block of
 // kc reductions, the slivers of r consecutive indices one after the other,
 // each holding its kk×r values k-major, zero padded past index m.
@@ -183,7 +201,29 @@ func product(c []float64, ldc, m, n, k int, p, q *operand, upper bool, kern kern
 // accumulate is product, adding PᵀQ to the values already in c when add is
 // set: each element then starts from its old value instead of zero and takes
 // the block sums in the same order.
+//
+// The packed operands of a long reduction would take as much memory as the
+// operands themselves, so the reduction is cut into chunks whose packings
+// hold at most maxPack values, each chunk added to c after the one before.
+// The chunks end on multiples of kc, where the block sums are added to c
+// anyway, so the summation order, and every bit of c, stays the same.
 func accumulate(c []float64, ldc, m, n, k int, p, q *operand, upper, add bool, kern kernel) {
+	per := m + n
+	if p == q {
+		per = n
+	}
+	if chunk := max(kc, maxPack/max(per, 1)/kc*kc); chunk < k {
+		for k0 := 0; k0 < k; k0 += chunk {
+			kk := min(chunk, k-k0)
+			ps := p.from(k0)
+			qs := ps
+			if p != q {
+				qs = q.from(k0)
+			}
+			accumulate(c, ldc, m, n, kk, ps, qs, upper, add || k0 > 0, kern)
+		}
+		return
+	}
 	workers := runtime.GOMAXPROCS(0)
 	type task struct{ i, j int }
 	var tasks []task
