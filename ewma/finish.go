@@ -119,6 +119,19 @@ func normalise(dst *mat.SymDense) error {
 // It returns nil if no repair was needed. Cost O(n³).
 func makePSD(a *mat.SymDense) *Repair {
 	n := a.SymmetricDim()
+	if big := maxAbsSym(a); big > 1e150 {
+		// Near overflow, the Cholesky check's products overflow and it can
+		// pass a matrix that is not PSD: check and repair a scaled copy.
+		scaled := mat.NewSymDense(n, nil)
+		scaled.ScaleSym(1/big, a)
+		rep := makePSD(scaled)
+		if rep != nil {
+			a.ScaleSym(big, scaled)
+			rep.MinEigenvalue *= big
+			rep.MaxChange *= big
+		}
+		return rep
+	}
 	var ch mat.Cholesky
 	if ch.Factorize(a) {
 		return nil
@@ -189,4 +202,16 @@ func copyUpper(dst *mat.SymDense, src []float64, n int) {
 	for i := 0; i < n; i++ {
 		copy(raw.Data[i*raw.Stride+i:i*raw.Stride+n], src[i*n+i:(i+1)*n])
 	}
+}
+
+// maxAbsSym returns the largest |a_ij|.
+func maxAbsSym(a *mat.SymDense) float64 {
+	n := a.SymmetricDim()
+	m := 0.0
+	for i := 0; i < n; i++ {
+		for j := i; j < n; j++ {
+			m = math.Max(m, math.Abs(a.At(i, j)))
+		}
+	}
+	return m
 }
