@@ -159,8 +159,7 @@ func subspaceEig(g *mat.SymDense, r, over, iters int, seed uint64) ([]float64, *
 	q := mat.NewDense(m, l, nil)
 	gaussian(q, seed)
 	y := mat.NewDense(m, l, nil)
-	full := mat.NewDense(m, m, nil)
-	full.Copy(g) // a general copy the kernel reads in place
+	full := fullCopy(g) // a general copy the kernel reads in place
 	for i := 0; i <= iters; i++ {
 		dense.Mul(y, full, q)
 		q, y = y, q
@@ -192,6 +191,23 @@ func subspaceEig(g *mat.SymDense, r, over, iters int, seed uint64) ([]float64, *
 		}
 	}
 	return vals, dense.Mul(nil, q, wr), true
+}
+
+// fullCopy returns g as a general matrix, both triangles from g's upper
+// storage: Dense.Copy reads a Symmetric element by element through At.
+func fullCopy(g *mat.SymDense) *mat.Dense {
+	raw := g.RawSymmetric()
+	m := raw.N
+	full := mat.NewDense(m, m, nil)
+	data := full.RawMatrix().Data
+	for i := 0; i < m; i++ {
+		row := raw.Data[i*raw.Stride+i : i*raw.Stride+m]
+		copy(data[i*m+i:], row)
+		for j, v := range row[1:] {
+			data[(i+1+j)*m+i] = v
+		}
+	}
+	return full
 }
 
 // fixSigns makes the largest-magnitude entry of each right singular vector
