@@ -3,6 +3,10 @@ package factor
 import (
 	"fmt"
 	"math"
+	"runtime"
+	"slices"
+	"sync"
+	"sync/atomic"
 
 	"gonum.org/v1/gonum/mat"
 
@@ -179,31 +183,82 @@ type data struct {
 
 // prepare copies x, validates it and centers each column over its
 // observations; missing cells start at the column mean (0 after centering).
+// Columns are handled in blocks spread over the cores; each column is still
+// summed over its dates in order, so the means do not depend on GOMAXPROCS,
+// and errors name the first bad cell in row-major order.
 func prepare(x mat.Matrix, assumeCentered bool) (*data, error) {
 	t, n := x.Dims()
-	z := mat.DenseCopyOf(x)
-	raw := z.RawMatrix()
+	var src []float64
+	stride := n
+	if rm, ok := x.(mat.RawMatrixer); ok {
+		raw := rm.RawMatrix()
+		src, stride = raw.Data, raw.Stride
+	} else {
+		src = mat.DenseCopyOf(x).RawMatrix().Data
+	}
+	z := mat.NewDense(t, n, nil)
+	zd := z.RawMatrix().Data
 	obs := make([]int, n)
 	sum := make([]float64, n)
-	var missing []int
-	for i := 0; i < t; i++ {
-		row := raw.Data[i*raw.Stride : i*raw.Stride+n]
-		seen := 0
-		for j, v := range row {
-			switch {
-			case math.IsNaN(v):
-				missing = append(missing, i*n+j)
-				continue
-			case math.IsInf(v, 0):
-				return nil, fmt.Errorf("%w: %v at date %d, asset %d", ErrNonFinite, v, i, j)
+	const width = 256 // columns per block
+	blocks := (n + width - 1) / width
+	type scan struct {
+		missing []int
+		inf     int    // row-major position of the block's first Inf, or -1
+		seen    []bool // seen[i]: date i has an observation in the block
+	}
+	scans := make([]scan, blocks)
+	eachBlock(blocks, func(b int) {
+		lo, hi := b*width, min((b+1)*width, n)
+		sc := scan{inf: -1, seen: make([]bool, t)}
+		for i := 0; i < t; i++ {
+			row := src[i*stride : i*stride+hi]
+			for j := lo; j < hi; j++ {
+				v := row[j]
+				switch {
+				case math.IsNaN(v):
+					sc.missing = append(sc.missing, i*n+j)
+					continue
+				case math.IsInf(v, 0):
+					if sc.inf < 0 {
+						sc.inf = i*n + j
+					}
+					continue
+				}
+				obs[j]++
+				sum[j] += v
+				sc.seen[i] = true
 			}
-			obs[j]++
-			sum[j] += v
-			seen++
 		}
-		if seen == 0 {
-			return nil, fmt.Errorf("%w: date %d", ErrEmptyDate, i)
+		scans[b] = sc
+	})
+	inf, empty := -1, -1
+	var missing []int
+	for i := 0; i < t && empty < 0; i++ {
+		seen := false
+		for b := range scans {
+			seen = seen || scans[b].seen[i]
 		}
+		if !seen {
+			empty = i
+		}
+	}
+	for b := range scans {
+		if p := scans[b].inf; p >= 0 && (inf < 0 || p < inf) {
+			inf = p
+		}
+		missing = append(missing, scans[b].missing...)
+	}
+	// The sequential scan meets an Inf before the end of its own date.
+	if inf >= 0 && (empty < 0 || inf/n <= empty) {
+		i, j := inf/n, inf%n
+		return nil, fmt.Errorf("%w: %v at date %d, asset %d", ErrNonFinite, src[i*stride+j], i, j)
+	}
+	if empty >= 0 {
+		return nil, fmt.Errorf("%w: date %d", ErrEmptyDate, empty)
+	}
+	if blocks > 1 {
+		slices.Sort(missing) // row-major, as the imputation expects
 	}
 	for j, c := range obs {
 		if c < 2 {
@@ -214,17 +269,43 @@ func prepare(x mat.Matrix, assumeCentered bool) (*data, error) {
 			sum[j] = 0
 		}
 	}
-	for i := 0; i < t; i++ {
-		row := raw.Data[i*raw.Stride : i*raw.Stride+n]
-		for j, v := range row {
-			if math.IsNaN(v) {
-				row[j] = 0
-			} else {
-				row[j] = v - sum[j]
+	eachBlock(blocks, func(b int) {
+		lo, hi := b*width, min((b+1)*width, n)
+		for i := 0; i < t; i++ {
+			row := src[i*stride : i*stride+hi]
+			out := zd[i*n : i*n+hi]
+			for j := lo; j < hi; j++ {
+				if v := row[j]; !math.IsNaN(v) {
+					out[j] = v - sum[j]
+				}
 			}
 		}
-	}
+	})
 	return &data{z: z, missing: missing}, nil
+}
+
+// eachBlock calls f(0), …, f(n-1) on up to GOMAXPROCS goroutines; f must
+// not depend on which goroutine runs it.
+func eachBlock(n int, f func(int)) {
+	workers := min(runtime.GOMAXPROCS(0), n)
+	if workers <= 1 {
+		for i := 0; i < n; i++ {
+			f(i)
+		}
+		return
+	}
+	var next atomic.Int64
+	var wg sync.WaitGroup
+	for w := 0; w < workers; w++ {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			for i := int(next.Add(1) - 1); i < n; i = int(next.Add(1) - 1) {
+				f(i)
+			}
+		}()
+	}
+	wg.Wait()
 }
 
 func (d *data) sumSquares() float64 {
