@@ -25,7 +25,7 @@ func returns() *mat.Dense {
 }
 
 func ExampleHalfLife() {
-	// RiskMetrics' daily and monthly decays.
+	// The daily and monthly decays published by J.P. Morgan/Reuters (1996).
 	fmt.Printf("%.4f %.4f %.4f\n", ewma.HalfLife(0.94), ewma.HalfLife(0.97), ewma.Decay(11.2))
 	// Output: 11.2023 22.7566 0.9400
 }
