@@ -8,7 +8,7 @@
 #   bash testdata/bench/run.sh            # prints the table
 #   bash testdata/bench/run.sh --save     # also writes testdata/bench/latest.txt
 #
-# About 3-5 minutes on the 2-core machine. Set BENCH_TAGS=openblas (with
+# About 4-6 minutes on the 2-core machine. Set BENCH_TAGS=openblas (with
 # CGO_LDFLAGS=-lopenblas) to measure the OpenBLAS build. Each benchmark runs
 # BENCH_COUNT times (default 3) and the table shows medians; the machine is
 # shared, so its load average is printed with the table.
@@ -28,6 +28,10 @@ bench() { # file package pattern benchtime
 }
 
 load_before=$(cut -d' ' -f1-3 /proc/loadavg)
+# The references run before and after the Go benchmarks, and the table takes
+# the mean of the two medians, so both sides span the same stretch of load.
+echo "== reference timings (before)" >&2
+"$py" testdata/bench/reference.py "$count" >"$out/reference.txt"
 echo "== go benchmarks" >&2
 bench dense.txt ./internal/dense '^BenchmarkXtX$/^1000x3000$/^(XtWX-alloc|gonum-Syrk)$' 1x
 bench peak.txt ./internal/dense '^BenchmarkPeak$' 3x
@@ -38,8 +42,8 @@ bench fit.txt ./factor '^BenchmarkFit$/^T=1000$/^N=3000$/^K=20$/^missing=false$/
 bench mulvec.txt ./factor '^BenchmarkMulVec$/^(factor|dense)$/^N=3000$' 2000x
 bench te.txt ./te '^BenchmarkDecompose$/^N=3000$/^K=20$/^inplace$' 2000x
 bench read.txt . '^BenchmarkReadReturns$/^(parquet|csv)$/^1000x3000$' 3x
-echo "== reference timings" >&2
-"$py" testdata/bench/reference.py "$count" >"$out/reference.txt"
+echo "== reference timings (after)" >&2
+"$py" testdata/bench/reference.py "$count" >>"$out/reference.txt"
 load_after=$(cut -d' ' -f1-3 /proc/loadavg)
 
 table=$("$py" testdata/bench/table.py "$out" "$load_before" "$load_after")

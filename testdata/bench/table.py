@@ -1,6 +1,7 @@
 #!/usr/bin/python3
 """Prints the table of testdata/bench/run.sh from the go test -bench outputs
-and reference.py's lines in the folder given. Medians over the runs.
+and reference.py's lines in the folder given: medians over the Go runs, and
+the mean of reference.py's medians from before and after them.
 
     /usr/bin/python3 testdata/bench/table.py DIR [load-before] [load-after]
 """
@@ -49,7 +50,8 @@ def main():
     for line in open(os.path.join(folder, "reference.txt")):
         if line.startswith("REF "):
             _, row, ms, desc = line.rstrip("\n").split(" ", 3)
-            refs[row], what[row] = float(ms), desc
+            refs.setdefault(row, []).append(float(ms))
+            what[row] = desc
         elif line.startswith("INFO "):
             info = line[5:].strip()
     go = subprocess.run(["go", "version"], capture_output=True, text=True).stdout.strip()
@@ -61,7 +63,8 @@ def main():
     peaks = [v[1] for k, v in med.items() if k.startswith("Peak/")]
     if peaks:
         print(f"# measured FMA peak, all cores: {max(peaks):.1f} GFLOP/s")
-    print("# ratio = reference time / our time (above 1: faster than the reference); medians")
+    print("# ratio = reference time / our time (above 1: faster than the reference); Go: medians;")
+    print("# reference: mean of its medians timed before and after the Go benchmarks")
     print(f"{'benchmark':30s} {'ours ms':>10s} {'MB/op':>8s} {'ref ms':>10s} {'ratio':>7s}  note")
     for name, bench, row, note in ROWS:
         if bench not in med:
@@ -70,7 +73,7 @@ def main():
         ms, gf, mem = med[bench]
         if gf:
             note += f", {gf:.1f} GFLOP/s"
-        r = refs.get(row) if row else None
+        r = statistics.mean(refs[row]) if row in refs else None
         rs = f"{r:10.3f} {r / ms:7.2f}" if r else f"{'none':>10s} {'':>7s}"
         print(f"{name:30s} {ms:10.3f} {mem / 1e6:8.1f} {rs}  {note}")
     print("# references:")
