@@ -56,15 +56,21 @@ func LedoitWolf(dst *mat.SymDense, x mat.Matrix, w []float64) (*mat.SymDense, Li
 }
 
 // LedoitWolfIntensity returns the Ledoit–Wolf (2004) shrinkage intensity δ
-// and target scale μ of LedoitWolf without forming any N×N matrix: it works
-// from the T×T Gram matrix of the centred rows and their sums of squares.
-// Arguments, conventions and errors are those of LedoitWolf. Cost O(T²·N).
+// and target scale μ of LedoitWolf without the estimate itself. It works in
+// the smaller space: from the T×T Gram matrix of the centred rows and their
+// sums of squares when N > T (no N×N matrix is formed), from the N×N sample
+// covariance otherwise. Arguments, conventions and errors are those of
+// LedoitWolf. Cost O(min(T, N)²·max(T, N)).
 //
 // References: as for LedoitWolf.
 func LedoitWolfIntensity(x mat.Matrix, w []float64) (LinearResult, error) {
 	s, err := newSample(x, w, 2)
 	if err != nil {
 		return LinearResult{}, err
+	}
+	if s.n <= s.t {
+		cov := s.covTo(nil)
+		return lwIntensity(s, cov.RawSymmetric(), frob2(cov), s.quadW2(cov)), nil
 	}
 	return lwFromGram(s, s.gram()), nil
 }

@@ -53,10 +53,43 @@ func TestLinearMatchesScikitLearn(t *testing.T) {
 			require.NoError(t, err)
 			require.InDelta(t, c.OASShrink, ores.Intensity, tol)
 			requireSymEqual(t, c.OASCov, ocov, tol)
+			oin, err := OASIntensity(x, nil)
+			require.NoError(t, err)
+			require.InDelta(t, c.OASShrink, oin.Intensity, tol)
 			oimp, oires, err := OASImplicit(x, nil)
 			require.NoError(t, err)
 			require.InDelta(t, c.OASShrink, oires.Intensity, tol)
 			requireSymEqual(t, c.OASCov, oimp.DenseTo(nil), tol)
+		})
+	}
+}
+
+// TestIntensityRoutesAgree checks the two routes of the intensity functions:
+// the T×T Gram route (taken when N > T) and the N×N route (N ≤ T) give the
+// same intensities on tall and wide data, with and without weights.
+func TestIntensityRoutesAgree(t *testing.T) {
+	for _, tc := range []struct {
+		name string
+		t, n int
+	}{{"tall", 40, 7}, {"wide", 9, 30}, {"square", 15, 15}} {
+		t.Run(tc.name, func(t *testing.T) {
+			x := randReturns(3, tc.t, tc.n)
+			w := randWeights(4, tc.t)
+			for _, wt := range [][]float64{nil, w} {
+				s, err := newSample(x, wt, 2)
+				require.NoError(t, err)
+				cov := s.covTo(nil)
+				dense := lwIntensity(s, cov.RawSymmetric(), frob2(cov), s.quadW2(cov))
+				gram := lwFromGram(s, s.gram())
+				require.InDelta(t, dense.Intensity, gram.Intensity, 1e-12)
+				require.InDelta(t, dense.Mu, gram.Mu, 1e-12*dense.Mu)
+				g := s.gram()
+				var tr float64
+				for i := 0; i < tc.n; i++ {
+					tr += cov.At(i, i)
+				}
+				require.InDelta(t, oasIntensity(s, tr, frob2(cov)).Intensity, oasIntensity(s, g.trace, g.frob2).Intensity, 1e-12)
+			}
 		})
 	}
 }

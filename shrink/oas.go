@@ -41,14 +41,24 @@ func OAS(dst *mat.SymDense, x mat.Matrix, w []float64) (*mat.SymDense, LinearRes
 	return cov, res, nil
 }
 
-// OASIntensity returns the intensity ρ and scale μ of OAS from the T×T Gram
-// matrix, without any N×N matrix. Cost O(T²·N).
+// OASIntensity returns the intensity ρ and scale μ of OAS without the
+// estimate itself, working in the smaller space: the T×T Gram matrix when
+// N > T (no N×N matrix is formed), the N×N sample covariance otherwise.
+// Cost O(min(T, N)²·max(T, N)).
 //
 // References: as for OAS.
 func OASIntensity(x mat.Matrix, w []float64) (LinearResult, error) {
 	s, err := newSample(x, w, 2)
 	if err != nil {
 		return LinearResult{}, err
+	}
+	if s.n <= s.t {
+		cov := s.covTo(nil)
+		var tr float64
+		for i := 0; i < s.n; i++ {
+			tr += cov.At(i, i)
+		}
+		return oasIntensity(s, tr, frob2(cov)), nil
 	}
 	g := s.gram()
 	return oasIntensity(s, g.trace, g.frob2), nil
