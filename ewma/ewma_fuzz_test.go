@@ -3,10 +3,11 @@ package ewma
 import (
 	"errors"
 	"math"
-	"strings"
 	"testing"
 
 	"gonum.org/v1/gonum/mat"
+
+	"github.com/riskmodel/riskmodel/internal/fuzzcheck"
 )
 
 // The fuzz targets decode arbitrary bytes into valid shapes (so that shape
@@ -91,79 +92,20 @@ func (b *fuzzBytes) options() *Options {
 		MinEffectiveObs: float64(c>>4) / 2}
 }
 
-// checkErr fails unless err wraps a sentinel and says so in its message.
+// checkErr fails unless err wraps one of the package's sentinels.
 func checkErr(t *testing.T, err error) {
 	t.Helper()
-	for _, s := range sentinels {
-		if errors.Is(err, s) {
-			if !strings.Contains(err.Error(), s.Error()) {
-				t.Fatalf("message %q lacks %q", err, s)
-			}
-			return
-		}
-	}
-	t.Fatalf("error wraps no sentinel: %T %v", err, err)
+	fuzzcheck.Err(t, err, sentinels)
 }
 
-// checkCov fails unless c is finite, exactly symmetric and positive
-// semidefinite: its eigenvalues are at least −1e−10 times the larger of its
-// largest absolute eigenvalue and dataScale (the largest squared input, so
-// that a covariance that is zero up to rounding, as for constant columns,
-// passes).
+// checkCov fails unless c is finite, symmetric and PSD (fuzzcheck.Cov).
 func checkCov(t *testing.T, c mat.Symmetric, dataScale float64) {
 	t.Helper()
-	n := c.SymmetricDim()
-	if n == 0 {
-		t.Fatalf("empty result without an error")
-	}
-	big := 0.0
-	for i := 0; i < n; i++ {
-		for j := 0; j < n; j++ {
-			v := c.At(i, j)
-			if math.IsNaN(v) || math.IsInf(v, 0) {
-				t.Fatalf("entry (%d,%d) = %v", i, j, v)
-			}
-			if v != c.At(j, i) {
-				t.Fatalf("not symmetric at (%d,%d)", i, j)
-			}
-			big = math.Max(big, math.Abs(v))
-		}
-	}
-	if big == 0 {
-		return
-	}
-	// Scaled to entries of at most 1: gonum's Dsterf panics on some
-	// matrices with entries near 1e284 (lapack: insufficient length of a).
-	a := mat.NewSymDense(n, nil)
-	for i := 0; i < n; i++ {
-		for j := i; j < n; j++ {
-			a.SetSym(i, j, c.At(i, j)/big)
-		}
-	}
-	var e mat.EigenSym
-	if !e.Factorize(a, true) { // the values-only path (Dsterf) panics on such a matrix
-		t.Fatalf("eigendecomposition failed")
-	}
-	vals := e.Values(nil)
-	scale := math.Max(math.Max(math.Abs(vals[0]), math.Abs(vals[n-1])), dataScale/big)
-	if vals[0] < -1e-10*scale {
-		t.Fatalf("not PSD: smallest eigenvalue %g, largest %g (times %g)", vals[0], vals[n-1], big)
-	}
+	fuzzcheck.Cov(t, c, dataScale)
 }
 
 // squareScale returns the largest finite x_ij².
-func squareScale(x mat.Matrix) float64 {
-	r, c := x.Dims()
-	s := 0.0
-	for i := 0; i < r; i++ {
-		for j := 0; j < c; j++ {
-			if v := x.At(i, j); !math.IsInf(v, 0) && !math.IsNaN(v) {
-				s = math.Max(s, v*v)
-			}
-		}
-	}
-	return s
-}
+func squareScale(x mat.Matrix) float64 { return fuzzcheck.SquareScale(x) }
 
 func FuzzEstimators(f *testing.F) {
 	// t=4, n=2, scale 1; values; weights nil; options nil; which estimator.

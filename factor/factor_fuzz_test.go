@@ -1,12 +1,12 @@
 package factor
 
 import (
-	"errors"
 	"math"
-	"strings"
 	"testing"
 
 	"gonum.org/v1/gonum/mat"
+
+	"github.com/riskmodel/riskmodel/internal/fuzzcheck"
 
 	"github.com/riskmodel/riskmodel/ewma"
 	"github.com/riskmodel/riskmodel/shrink"
@@ -66,15 +66,7 @@ func (b *fuzzBytes) matrix() *mat.Dense {
 
 func checkErr(t *testing.T, err error) {
 	t.Helper()
-	for _, s := range sentinels {
-		if errors.Is(err, s) {
-			if !strings.Contains(err.Error(), s.Error()) {
-				t.Fatalf("message %q lacks %q", err, s)
-			}
-			return
-		}
-	}
-	t.Fatalf("error wraps no sentinel: %T %v", err, err)
+	fuzzcheck.Err(t, err, sentinels)
 }
 
 // checkModel fails unless the model's dense covariance is finite, symmetric

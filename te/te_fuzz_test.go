@@ -1,12 +1,12 @@
 package te
 
 import (
-	"errors"
 	"math"
-	"strings"
 	"testing"
 
 	"gonum.org/v1/gonum/mat"
+
+	"github.com/riskmodel/riskmodel/internal/fuzzcheck"
 )
 
 // FuzzDecompose decodes arbitrary bytes into a covariance (dense, or factor
@@ -122,13 +122,5 @@ func FuzzDecompose(f *testing.F) {
 
 func checkErr(t *testing.T, err error) {
 	t.Helper()
-	for _, s := range sentinels {
-		if errors.Is(err, s) {
-			if !strings.Contains(err.Error(), s.Error()) {
-				t.Fatalf("message %q lacks %q", err, s)
-			}
-			return
-		}
-	}
-	t.Fatalf("error wraps no sentinel: %T %v", err, err)
+	fuzzcheck.Err(t, err, sentinels)
 }
