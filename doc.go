@@ -16,6 +16,13 @@
 //     delistings, implausible returns, robust outliers, stale runs).
 //   - GenerateDemo: a seeded simulation of an invented market with a known
 //     true covariance, used by the examples, the tests and for stress tests.
+//   - Build: any estimator by name (Methods) over a window as of a date, with
+//     a report of what it did to the data; Validate: finite, positive
+//     definite, condition number, coverage and a bias statistic.
+//   - SaveModel, LoadModel and Store.Publish: the model folder (Parquet plus a
+//     manifest with checksums) and the atomic switch of the current model.
+//   - Compare (night to night), Attribute (the analyst's report in text,
+//     CSV, JSON or HTML) and Evaluate (out-of-sample ranking of estimators).
 //
 // The math packages speak gonum (mat.Matrix with rows as dates and columns as
 // assets, mat.Symmetric, []float64 weights) and know nothing of files:
@@ -27,13 +34,17 @@
 //     OAS, Schäfer–Strimmer, analytical nonlinear shrinkage, Marchenko–Pastur
 //     clipping) and conditioning tools (nearest correlation matrix, PSD repair,
 //     condition-number cap).
-//   - factor: statistical factor models Σ = B·F·Bᵀ + D from principal
-//     components, applied in O(N·K) without forming the N×N matrix.
+//   - factor: factor models Σ = B·F·Bᵀ + D — statistical (principal
+//     components), exposure-based (sector and style factors by
+//     cross-sectional regression) and a hybrid of both — applied in O(N·K)
+//     without forming the N×N matrix.
 //   - te: ex-ante tracking error and its decomposition into factor and
 //     specific parts, by group, factor and single name.
 //
 // The arrows point down: ewma, shrink and te import none of the other
 // packages; factor may use ewma and shrink; the root package uses them all.
+// The dense products they share run on one multi-core kernel under
+// internal/, which users cannot import.
 //
 // # Data flow
 //
