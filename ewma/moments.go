@@ -1,8 +1,6 @@
 package ewma
 
 import (
-	"math"
-
 	"gonum.org/v1/gonum/mat"
 )
 
@@ -61,6 +59,9 @@ func VariancesTo(dst []float64, x mat.Matrix, w []float64, opts *Options) ([]flo
 		panic(mat.ErrShape)
 	}
 	o := opts.orZero()
+	if raw, ok := x.(*mat.Dense); ok && !o.CompleteCase {
+		return variancesDense(dst, raw, w, o)
+	}
 	d, err := load(x, w, o)
 	if err != nil {
 		return dst, err
@@ -88,23 +89,5 @@ func VariancesTo(dst []float64, x mat.Matrix, w []float64, opts *Options) ([]flo
 			tot2[j] += wi * wi
 		}
 	}
-	if dst == nil {
-		dst = make([]float64, n)
-	}
-	for j := range dst {
-		eff := tot[j] * tot[j] / tot2[j]
-		if o.MinEffectiveObs > 0 && eff < o.MinEffectiveObs {
-			return dst, errAt(ErrEffectiveObs, -1, j, -1, eff)
-		}
-		v := ss[j] / tot[j]
-		if o.Unbiased {
-			v *= tot[j] * tot[j] / (tot[j]*tot[j] - tot2[j])
-		}
-		if math.IsInf(v, 0) || math.IsNaN(v) {
-			// Finite returns whose squares overflow float64.
-			return dst, errAt(ErrNonFinite, -1, j, -1, v)
-		}
-		dst[j] = v
-	}
-	return dst, nil
+	return finishVariances(dst, ss, tot, tot2, o)
 }
