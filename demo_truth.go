@@ -37,7 +37,7 @@ func (d *Demo) SpecificReturnsTo(dst *mat.Dense) *mat.Dense {
 // empty dst is allocated. Cost O(T·N·K).
 func (d *Demo) TrueReturnsTo(dst *mat.Dense) *mat.Dense {
 	t, n := d.e.Dims()
-	dst = sizeDense(dst, t, n)
+	dst = dense.SizeDense(dst, t, n)
 	dense.Mul(dst, d.f, d.b.T())
 	dst.Add(dst, d.e)
 	return dst
@@ -54,7 +54,7 @@ func (d *Demo) TrueReturnsTo(dst *mat.Dense) *mat.Dense {
 func (d *Demo) FactorCovarianceTo(dst *mat.SymDense, i int) *mat.SymDense {
 	s := d.fsdRow(i)
 	k := len(s)
-	dst = sizeSym(dst, k)
+	dst = dense.SizeSym(dst, k)
 	for a := 0; a < k; a++ {
 		for b := a; b < k; b++ {
 			dst.SetSym(a, b, s[a]*d.corr.At(a, b)*s[b])
@@ -121,35 +121,9 @@ func (d *Demo) fsdRow(i int) []float64 {
 	return d.fsd.RawRowView(i)
 }
 
-func sizeDense(dst *mat.Dense, r, c int) *mat.Dense {
-	switch {
-	case dst == nil:
-		return mat.NewDense(r, c, nil)
-	case dst.IsEmpty():
-		dst.ReuseAs(r, c)
-	default:
-		if rr, cc := dst.Dims(); rr != r || cc != c {
-			panic(mat.ErrShape)
-		}
-	}
-	return dst
-}
-
 func copyDense(dst *mat.Dense, src *mat.Dense) *mat.Dense {
 	r, c := src.Dims()
-	dst = sizeDense(dst, r, c)
+	dst = dense.SizeDense(dst, r, c)
 	dst.Copy(src)
-	return dst
-}
-
-func sizeSym(dst *mat.SymDense, n int) *mat.SymDense {
-	switch {
-	case dst == nil:
-		return mat.NewSymDense(n, nil)
-	case dst.IsEmpty():
-		dst.ReuseAsSym(n)
-	case dst.SymmetricDim() != n:
-		panic(mat.ErrShape)
-	}
 	return dst
 }

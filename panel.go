@@ -8,6 +8,8 @@ import (
 	"sort"
 
 	"gonum.org/v1/gonum/mat"
+
+	"github.com/riskmodel/riskmodel/internal/dense"
 )
 
 // Common numbers of periods per year. They are common practice, not laws: a
@@ -273,14 +275,10 @@ func (p *Panel) Returns() mat.Matrix {
 // allocated; a dst of the wrong size panics with mat.ErrShape.
 func (p *Panel) ReturnsTo(dst *mat.Dense) *mat.Dense {
 	t, n := p.Dims()
-	if dst == nil {
-		dst = mat.NewDense(t, n, nil)
-	} else if dst.IsEmpty() {
-		dst.ReuseAs(t, n)
-	} else if r, c := dst.Dims(); r != t || c != n {
-		panic(mat.ErrShape)
+	dst = dense.SizeDense(dst, t, n)
+	if p.r != nil {
+		dst.Copy(p.r)
 	}
-	dst.Copy(p.r)
 	return dst
 }
 

@@ -2,6 +2,8 @@ package ewma
 
 import (
 	"gonum.org/v1/gonum/mat"
+
+	"github.com/riskmodel/riskmodel/internal/dense"
 )
 
 // CovarianceTo sets dst to the weighted covariance of the columns of the T×N
@@ -37,7 +39,7 @@ func CovarianceTo(dst *mat.SymDense, x mat.Matrix, w []float64, opts *Options) (
 		panic(mat.ErrShape)
 	}
 	_, n := x.Dims()
-	dst = prepareSym(dst, n)
+	dst = dense.SizeSym(dst, n)
 	o := opts.orZero()
 	d, err := load(x, w, o)
 	if err != nil {
@@ -80,7 +82,7 @@ func CorrelationTo(dst *mat.SymDense, x mat.Matrix, w []float64, opts *Options) 
 		panic(mat.ErrShape)
 	}
 	_, n := x.Dims()
-	dst = prepareSym(dst, n)
+	dst = dense.SizeSym(dst, n)
 	o := opts.orZero()
 	d, err := load(x, w, o)
 	if err != nil {

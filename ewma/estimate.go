@@ -4,6 +4,8 @@ import (
 	"math"
 
 	"gonum.org/v1/gonum/mat"
+
+	"github.com/riskmodel/riskmodel/internal/dense"
 )
 
 // Settings for Estimate. VolHalfLife and CorrHalfLife have no sensible zero
@@ -46,7 +48,7 @@ func Estimate(dst *mat.SymDense, x mat.Matrix, s Settings) (*Report, error) {
 		panic(mat.ErrShape)
 	}
 	t, n := x.Dims()
-	dst = prepareSym(dst, n)
+	dst = dense.SizeSym(dst, n)
 	if !validHalfLife(s.VolHalfLife) {
 		return nil, errAt(ErrHalfLife, -1, -1, -1, s.VolHalfLife)
 	}

@@ -181,20 +181,6 @@ func makePSD(a *mat.SymDense) *Repair {
 	return rep
 }
 
-// prepareSym sizes dst as an n×n symmetric matrix, allocating when nil or
-// empty and panicking with mat.ErrShape on a wrong size.
-func prepareSym(dst *mat.SymDense, n int) *mat.SymDense {
-	switch {
-	case dst == nil:
-		return mat.NewSymDense(n, nil)
-	case dst.IsEmpty():
-		dst.ReuseAsSym(n)
-	case dst.SymmetricDim() != n:
-		panic(mat.ErrShape)
-	}
-	return dst
-}
-
 // mirror copies the computed upper triangle of a raw n×n row-major buffer
 // into dst; dst's own storage is upper-triangular so nothing else is needed.
 func copyUpper(dst *mat.SymDense, src []float64, n int) {

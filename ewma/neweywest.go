@@ -61,7 +61,7 @@ func NeweyWestTo(dst *mat.SymDense, x mat.Matrix, w []float64, lags int, opts *O
 		panic(mat.ErrShape)
 	}
 	t, n := x.Dims()
-	dst = prepareSym(dst, n)
+	dst = dense.SizeSym(dst, n)
 	lags, err := resolveLags(lags, t)
 	if err != nil {
 		return nil, err

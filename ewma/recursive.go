@@ -4,6 +4,8 @@ import (
 	"math"
 
 	"gonum.org/v1/gonum/mat"
+
+	"github.com/riskmodel/riskmodel/internal/dense"
 )
 
 // RecursiveSettings configure a Recursive state. HalfLife has no sensible
@@ -279,7 +281,7 @@ func (r *Recursive) CovarianceTo(dst *mat.SymDense) (*Report, error) {
 	if dst == nil {
 		panic(mat.ErrShape)
 	}
-	dst = prepareSym(dst, r.n)
+	dst = dense.SizeSym(dst, r.n)
 	if err := r.ready(); err != nil {
 		return nil, err
 	}
@@ -305,7 +307,7 @@ func (r *Recursive) CorrelationTo(dst *mat.SymDense) (*Report, error) {
 	if dst == nil {
 		panic(mat.ErrShape)
 	}
-	dst = prepareSym(dst, r.n)
+	dst = dense.SizeSym(dst, r.n)
 	if err := r.ready(); err != nil {
 		return nil, err
 	}

@@ -8,6 +8,8 @@ import (
 	"gonum.org/v1/gonum/blas"
 	"gonum.org/v1/gonum/blas/blas64"
 	"gonum.org/v1/gonum/mat"
+
+	"github.com/riskmodel/riskmodel/internal/dense"
 )
 
 // Model is a covariance in factor form,
@@ -181,7 +183,7 @@ func (m *Model) At(i, j int) float64 {
 // dst and returns it. A nil or empty dst is allocated; a dst of another size
 // panics with mat.ErrShape.
 func (m *Model) LoadingsTo(dst *mat.Dense) *mat.Dense {
-	dst = denseDst(dst, m.n, m.k)
+	dst = dense.SizeDense(dst, m.n, m.k)
 	if m.k > 0 {
 		dst.Copy(m.b)
 	}
@@ -191,7 +193,7 @@ func (m *Model) LoadingsTo(dst *mat.Dense) *mat.Dense {
 // FactorCovarianceTo copies F (K×K) to dst and returns it. A nil or empty
 // dst is allocated; a dst of another size panics with mat.ErrShape.
 func (m *Model) FactorCovarianceTo(dst *mat.SymDense) *mat.SymDense {
-	dst = symDst(dst, m.k)
+	dst = dense.SizeSym(dst, m.k)
 	if m.k > 0 {
 		dst.CopySym(m.f)
 	}
@@ -228,44 +230,6 @@ func (m *Model) Assets() []string {
 		return nil
 	}
 	return append([]string(nil), m.info.Assets...)
-}
-
-func denseDst(dst *mat.Dense, r, c int) *mat.Dense {
-	switch {
-	case dst == nil:
-		if r == 0 || c == 0 {
-			return &mat.Dense{}
-		}
-		return mat.NewDense(r, c, nil)
-	case dst.IsEmpty():
-		if r > 0 && c > 0 {
-			dst.ReuseAs(r, c)
-		}
-		return dst
-	}
-	if rr, cc := dst.Dims(); rr != r || cc != c {
-		panic(mat.ErrShape)
-	}
-	return dst
-}
-
-func symDst(dst *mat.SymDense, n int) *mat.SymDense {
-	switch {
-	case dst == nil:
-		if n == 0 {
-			return &mat.SymDense{}
-		}
-		return mat.NewSymDense(n, nil)
-	case dst.IsEmpty():
-		if n > 0 {
-			dst.ReuseAsSym(n)
-		}
-		return dst
-	}
-	if dst.SymmetricDim() != n {
-		panic(mat.ErrShape)
-	}
-	return dst
 }
 
 func vecDst(dst []float64, n int) []float64 {

@@ -73,7 +73,7 @@ func (m *Model) QuadForm(x []float64) float64 {
 // Nil or empty destinations are allocated; wrong sizes panic with
 // mat.ErrShape. Cost O(N·K).
 func (m *Model) SqrtTo(g *mat.Dense, s []float64) (*mat.Dense, []float64) {
-	g = denseDst(g, m.k, m.n)
+	g = dense.SizeDense(g, m.k, m.n)
 	s = vecDst(s, m.n)
 	if m.k > 0 {
 		g.Copy(m.bl.T())
@@ -89,7 +89,7 @@ func (m *Model) SqrtTo(g *mat.Dense, s []float64) (*mat.Dense, []float64) {
 // mat.ErrShape. Cost O(N²·K) flops and N² memory: use it only when a dense
 // matrix is really needed.
 func (m *Model) CovarianceTo(dst *mat.SymDense) *mat.SymDense {
-	dst = symDst(dst, m.n)
+	dst = dense.SizeSym(dst, m.n)
 	if m.k > 0 {
 		dense.XtWX(dst, m.bl.T(), nil) // (B·L)·(B·L)ᵀ, read in place
 	} else {
@@ -152,7 +152,7 @@ func (m *Model) SolveVecTo(dst, x []float64) []float64 {
 // dst of another size panics with mat.ErrShape. Cost O(N²·K) flops and N²
 // memory.
 func (m *Model) InverseTo(dst *mat.SymDense) *mat.SymDense {
-	dst = symDst(dst, m.n)
+	dst = dense.SizeSym(dst, m.n)
 	if m.k > 0 {
 		// Yᵀ = R⁻ᵀ·(D⁻¹W)ᵀ, K×N.
 		yt := mat.NewDense(m.k, m.n, nil)

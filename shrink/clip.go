@@ -4,6 +4,8 @@ import (
 	"math"
 
 	"gonum.org/v1/gonum/mat"
+
+	"github.com/riskmodel/riskmodel/internal/dense"
 )
 
 // ClipResult holds the diagnostics of ClipMarchenkoPastur.
@@ -113,7 +115,7 @@ func ClipMarchenkoPastur(dst *mat.SymDense, x mat.Matrix, w []float64) (*mat.Sym
 	}
 	res.Condition = condition([]float64{lo, hi})
 	c := recompose(nil, us, d, res.NoiseMean)
-	dst = prepareSym(dst, n)
+	dst = dense.SizeSym(dst, n)
 	unitDiag(dst, c)
 	for i := 0; i < n; i++ {
 		for j := i; j < n; j++ {

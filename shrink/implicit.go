@@ -159,7 +159,7 @@ func (m *Implicit) DiagTo(dst []float64) []float64 {
 // O(T·N²) and O(N²) memory.
 func (m *Implicit) DenseTo(dst *mat.SymDense) *mat.SymDense {
 	_, n := m.z.Dims()
-	dst = prepareSym(dst, n)
+	dst = dense.SizeSym(dst, n)
 	dense.XtWX(dst, m.z, nil)
 	for j, v := range m.d {
 		dst.SetSym(j, j, dst.At(j, j)+v)

@@ -128,20 +128,6 @@ func normWeights(w []float64) ([]float64, error) {
 	return omega, nil
 }
 
-// prepareSym returns dst sized n×n, allocating when nil or empty, and panics
-// with mat.ErrShape when it has another size.
-func prepareSym(dst *mat.SymDense, n int) *mat.SymDense {
-	switch {
-	case dst == nil:
-		return mat.NewSymDense(n, nil)
-	case dst.IsEmpty():
-		dst.ReuseAsSym(n)
-	case dst.SymmetricDim() != n:
-		panic(mat.ErrShape)
-	}
-	return dst
-}
-
 // checkSym validates a symmetric input: finite entries. It returns a copy.
 func checkSym(a mat.Symmetric) (*mat.SymDense, error) {
 	n := a.SymmetricDim()

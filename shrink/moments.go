@@ -8,7 +8,7 @@ import (
 
 // covTo sets dst to S = Σ_t ω_t y_t y_tᵀ through the shared dense kernel.
 func (s *sample) covTo(dst *mat.SymDense) *mat.SymDense {
-	dst = prepareSym(dst, s.n)
+	dst = dense.SizeSym(dst, s.n)
 	dense.XtWX(dst, s.y, s.omega)
 	if s.omega == nil {
 		// Dividing after the product, as scikit-learn does, keeps equal

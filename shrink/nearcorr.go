@@ -4,6 +4,8 @@ import (
 	"math"
 
 	"gonum.org/v1/gonum/mat"
+
+	"github.com/riskmodel/riskmodel/internal/dense"
 )
 
 // NearCorrOptions tunes NearestCorrelation. The zero value (or nil) is the
@@ -107,7 +109,7 @@ func NearestCorrelation(dst *mat.SymDense, a mat.Symmetric, opt *NearCorrOptions
 			break
 		}
 	}
-	dst = prepareSym(dst, n)
+	dst = dense.SizeSym(dst, n)
 	unitDiag(dst, x)
 	res.Norm = diffNorm(dst, a0)
 	if !converged {

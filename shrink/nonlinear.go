@@ -4,6 +4,8 @@ import (
 	"math"
 
 	"gonum.org/v1/gonum/mat"
+
+	"github.com/riskmodel/riskmodel/internal/dense"
 )
 
 // NonlinearResult holds the diagnostics of Nonlinear.
@@ -88,7 +90,7 @@ func Nonlinear(dst *mat.SymDense, x mat.Matrix, w []float64) (*mat.SymDense, Non
 	res := NonlinearResult{Sample: append([]float64(nil), lambda...)}
 	res.Formula, res.FormulaNull = nonlinearShrink(lambda, p, nn)
 	res.Shrunk, res.Null, res.Pooled = monotone(res.Formula, res.FormulaNull, p-m)
-	dst = prepareSym(dst, p)
+	dst = dense.SizeSym(dst, p)
 	lo, hi := math.Inf(1), math.Inf(-1)
 	for _, v := range res.Shrunk {
 		lo, hi = math.Min(lo, v), math.Max(hi, v)

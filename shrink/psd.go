@@ -4,6 +4,8 @@ import (
 	"math"
 
 	"gonum.org/v1/gonum/mat"
+
+	"github.com/riskmodel/riskmodel/internal/dense"
 )
 
 // Repair reports what a conditioning step changed.
@@ -103,7 +105,7 @@ func floorEigen(dst *mat.SymDense, a mat.Symmetric, floor, maxCond float64) (*ma
 	rep.Norm = math.Sqrt(ss)
 	rep.MinAfter = math.Max(rep.MinBefore, floor)
 	rep.CondAfter = condition([]float64{rep.MinAfter, math.Max(top, floor)})
-	dst = prepareSym(dst, n)
+	dst = dense.SizeSym(dst, n)
 	if rep.Changed == 0 {
 		dst.CopySym(c)
 		return dst, rep, nil

@@ -27,7 +27,7 @@ func eigen(a mat.Symmetric) ([]float64, *mat.Dense, error) {
 // still go through the multi-core kernel, which takes non-negative weights.
 func recompose(dst *mat.SymDense, u *mat.Dense, d []float64, c float64) *mat.SymDense {
 	_, n := u.Dims()
-	dst = prepareSym(dst, n)
+	dst = dense.SizeSym(dst, n)
 	pos := make([]float64, len(d))
 	neg := make([]float64, len(d))
 	anyNeg := false

@@ -48,7 +48,7 @@ func XtWX(dst *mat.SymDense, x mat.Matrix, w []float64) *mat.SymDense {
 	if w != nil && len(w) != t {
 		panic(mat.ErrShape)
 	}
-	dst = prepare(dst, n)
+	dst = SizeSym(dst, n)
 	data, stride, trans := rowMajor(x)
 	p := &operand{data: data, stride: stride, trans: trans, kw: w}
 	q := p
@@ -76,7 +76,7 @@ func XWXt(dst *mat.SymDense, x mat.Matrix, w []float64) *mat.SymDense {
 	if w != nil && len(w) != t {
 		panic(mat.ErrShape)
 	}
-	dst = prepare(dst, t)
+	dst = SizeSym(dst, t)
 	data, stride, trans := rowMajor(x)
 	if viaBLAS {
 		blasXWXt(dst.RawSymmetric(), data, stride, trans, t, n, w)
@@ -110,7 +110,7 @@ func MulTA(dst *mat.Dense, a, b mat.Matrix) *mat.Dense {
 	if t != tb {
 		panic(mat.ErrShape)
 	}
-	dst = prepareDense(dst, m, n)
+	dst = SizeDense(dst, m, n)
 	ad, as, at := rowMajor(a)
 	bd, bs, bt := rowMajor(b)
 	raw := dst.RawMatrix()
@@ -138,7 +138,7 @@ func Mul(dst *mat.Dense, a, b mat.Matrix) *mat.Dense {
 	if k != kb {
 		panic(mat.ErrShape)
 	}
-	dst = prepareDense(dst, m, n)
+	dst = SizeDense(dst, m, n)
 	mulAdd(dst, a, b, false)
 	return dst
 }
@@ -187,32 +187,6 @@ func mulAdd(dst *mat.Dense, a, b mat.Matrix, sub bool) {
 	}
 	q := &operand{data: bd, stride: bs, trans: bt}
 	accumulate(raw.Data, raw.Stride, m, n, k, p, q, false, sub, best)
-}
-
-func prepareDense(dst *mat.Dense, m, n int) *mat.Dense {
-	switch {
-	case dst == nil:
-		return mat.NewDense(m, n, nil)
-	case dst.IsEmpty():
-		dst.ReuseAs(m, n)
-	default:
-		if r, c := dst.Dims(); r != m || c != n {
-			panic(mat.ErrShape)
-		}
-	}
-	return dst
-}
-
-func prepare(dst *mat.SymDense, n int) *mat.SymDense {
-	switch {
-	case dst == nil:
-		return mat.NewSymDense(n, nil)
-	case dst.IsEmpty():
-		dst.ReuseAsSym(n)
-	case dst.SymmetricDim() != n:
-		panic(mat.ErrShape)
-	}
-	return dst
 }
 
 // rowMajor returns the elements of x without copying when x is a *mat.Dense

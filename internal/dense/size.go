@@ -1,0 +1,46 @@
+package dense
+
+import "gonum.org/v1/gonum/mat"
+
+// SizeSym returns dst ready to receive an n×n symmetric result, the gonum
+// convention every package of the library follows: a nil dst is allocated, an
+// empty one is resized, one of another size panics with mat.ErrShape. For
+// n = 0 it returns an empty matrix rather than allocating one.
+func SizeSym(dst *mat.SymDense, n int) *mat.SymDense {
+	switch {
+	case dst == nil:
+		if n == 0 {
+			return &mat.SymDense{}
+		}
+		return mat.NewSymDense(n, nil)
+	case dst.IsEmpty():
+		if n > 0 {
+			dst.ReuseAsSym(n)
+		}
+		return dst
+	}
+	if dst.SymmetricDim() != n {
+		panic(mat.ErrShape)
+	}
+	return dst
+}
+
+// SizeDense is SizeSym for an r×c general matrix.
+func SizeDense(dst *mat.Dense, r, c int) *mat.Dense {
+	switch {
+	case dst == nil:
+		if r == 0 || c == 0 {
+			return &mat.Dense{}
+		}
+		return mat.NewDense(r, c, nil)
+	case dst.IsEmpty():
+		if r > 0 && c > 0 {
+			dst.ReuseAs(r, c)
+		}
+		return dst
+	}
+	if rr, cc := dst.Dims(); rr != r || cc != c {
+		panic(mat.ErrShape)
+	}
+	return dst
+}
