@@ -1,7 +1,6 @@
 package riskmodel
 
 import (
-	"errors"
 	"fmt"
 	"math"
 	"slices"
@@ -100,6 +99,7 @@ type BuildReport struct {
 	Start, End Date       // first and last date of the window
 	Dates      int        // dates in the window
 	Assets     int        // assets in the model
+	MinObs     int        // the fewest observations an asset needed to be kept
 	Dropped    []Coverage // assets dropped for too few observations, with their coverage
 	Missing    int        // missing cells of the window's returns for the kept assets
 	Imputed    int        // missing cells filled with the asset's window mean (shrinkage methods)
@@ -109,8 +109,11 @@ type BuildReport struct {
 	Notes        []string // the same facts as the model's Notes
 }
 
-// ErrMethod reports an unknown method name.
-var ErrMethod = errors.New("unknown method")
+// DefaultMinObs is Build's default for BuildOptions.MinObs on a window of
+// the given number of dates: half the window, and at least 2. An asset with
+// fewer observations gives a variance estimate too noisy to publish (common
+// practice, no source).
+func DefaultMinObs(dates int) int { return max(2, dates/2) }
 
 // Build estimates a risk model from the panel's returns up to and including
 // asof: it takes the last Window dates, drops assets with fewer than MinObs
@@ -134,7 +137,7 @@ func Build(p *Panel, asof Date, opts *BuildOptions) (*Model, *BuildReport, error
 	}
 	minObs := o.MinObs
 	if minObs == 0 {
-		minObs = max(2, len(win.dates)/2)
+		minObs = DefaultMinObs(len(win.dates))
 	}
 	win, dropped := win.DropSparse(minObs)
 	var unclassified []string
@@ -162,7 +165,7 @@ func Build(p *Panel, asof Date, opts *BuildOptions) (*Model, *BuildReport, error
 	}
 	rep := &BuildReport{
 		Method: o.Method, AsOf: asof, Start: win.dates[0], End: win.dates[t-1],
-		Dates: t, Assets: n, Dropped: dropped, Missing: countNaN(win.r),
+		Dates: t, Assets: n, MinObs: minObs, Dropped: dropped, Missing: countNaN(win.r),
 	}
 	if len(dropped) > 0 {
 		rep.Notes = append(rep.Notes, fmt.Sprintf("%d assets dropped for fewer than %d observations in the window", len(dropped), minObs))

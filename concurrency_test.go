@@ -1,9 +1,11 @@
-package riskmodel
+package riskmodel_test
 
 import (
 	"math"
 	"sync"
 	"testing"
+
+	"github.com/riskmodel/riskmodel"
 
 	"github.com/stretchr/testify/require"
 	"gonum.org/v1/gonum/mat"
@@ -49,8 +51,8 @@ func bitsOf(v []float64) []uint64 {
 }
 
 func TestConcurrentReads(t *testing.T) {
-	demo := smallDemo(t)
-	p := demo.Panel
+	market := smallDemo(t)
+	p := market.Panel
 	tt, n := p.Dims()
 	asof := p.Date(tt - 1)
 	w := make([]float64, n)
@@ -79,8 +81,8 @@ func TestConcurrentReads(t *testing.T) {
 		hammer(t, read(), read)
 	})
 
-	for _, method := range []string{MethodFactor, MethodLedoitWolf} {
-		m, _, err := Build(p, asof, &BuildOptions{Method: method, Window: 250, Factors: 4})
+	for _, method := range []string{riskmodel.MethodFactor, riskmodel.MethodLedoitWolf} {
+		m, _, err := riskmodel.Build(p, asof, &riskmodel.BuildOptions{Method: method, Window: 250, Factors: 4})
 		require.NoError(t, err)
 		k := len(m.Assets)
 		x := make([]float64, k)

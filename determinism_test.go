@@ -1,4 +1,4 @@
-package riskmodel
+package riskmodel_test
 
 import (
 	"math"
@@ -6,11 +6,15 @@ import (
 	"runtime"
 	"testing"
 
+	"github.com/riskmodel/riskmodel/internal/demo"
+
+	"github.com/riskmodel/riskmodel"
+
 	"github.com/stretchr/testify/require"
 )
 
 // covBits returns the bits of every element of the model's covariance.
-func covBits(m *Model) []uint64 {
+func covBits(m *riskmodel.Model) []uint64 {
 	c := m.Covariance()
 	n := c.SymmetricDim()
 	out := make([]uint64, 0, n*n)
@@ -27,18 +31,18 @@ func covBits(m *Model) []uint64 {
 // The dense kernel and the factor fit split work across goroutines; this
 // checks that the split never changes an order of summation.
 func TestBuildDeterministicAcrossProcs(t *testing.T) {
-	demo := smallDemo(t)
-	p := demo.Panel
+	market := smallDemo(t)
+	p := market.Panel
 	tt, _ := p.Dims()
 	asof := p.Date(tt - 1)
 	sectors, caps := map[string]string{}, map[string]float64{}
-	for _, a := range demo.Assets {
+	for _, a := range market.Assets {
 		sectors[a.Asset], caps[a.Asset] = a.Sector, a.MarketCap
 	}
 	defer runtime.GOMAXPROCS(runtime.GOMAXPROCS(0))
-	for _, method := range []string{MethodFactor, MethodLedoitWolf, MethodEWMA, MethodExposure} {
+	for _, method := range []string{riskmodel.MethodFactor, riskmodel.MethodLedoitWolf, riskmodel.MethodEWMA, riskmodel.MethodExposure} {
 		t.Run(method, func(t *testing.T) {
-			opts := &BuildOptions{Method: method, Window: 300, Factors: 4, Sectors: sectors, MarketCaps: caps}
+			opts := &riskmodel.BuildOptions{Method: method, Window: 300, Factors: 4, Sectors: sectors, MarketCaps: caps}
 			requireSameAcrossProcs(t, p, asof, opts)
 		})
 	}
@@ -47,31 +51,31 @@ func TestBuildDeterministicAcrossProcs(t *testing.T) {
 	}
 	// 300 assets: large enough that the dense products are split across
 	// goroutines.
-	big, err := GenerateDemo(&DemoConfig{Seed: 12, Assets: 300, Sectors: 5, Dates: 130})
+	big, err := demo.Generate(&demo.Config{Seed: 12, Assets: 300, Sectors: 5, Dates: 130})
 	require.NoError(t, err)
 	bt, _ := big.Panel.Dims()
-	for _, method := range []string{MethodFactor, MethodLedoitWolf, MethodEWMA} {
+	for _, method := range []string{riskmodel.MethodFactor, riskmodel.MethodLedoitWolf, riskmodel.MethodEWMA} {
 		t.Run(method+" 300 assets", func(t *testing.T) {
-			requireSameAcrossProcs(t, big.Panel, big.Panel.Date(bt-1), &BuildOptions{Method: method, Window: 120, Factors: 5})
+			requireSameAcrossProcs(t, big.Panel, big.Panel.Date(bt-1), &riskmodel.BuildOptions{Method: method, Window: 120, Factors: 5})
 		})
 	}
 }
 
 // requireSameAcrossProcs builds with GOMAXPROCS 1, 2 and 8 and requires
-// bit-identical covariances, and the same after SaveModel and LoadModel.
-func requireSameAcrossProcs(t *testing.T, p *Panel, asof Date, opts *BuildOptions) {
+// bit-identical covariances, and the same after riskmodel.SaveModel and riskmodel.LoadModel.
+func requireSameAcrossProcs(t *testing.T, p *riskmodel.Panel, asof riskmodel.Date, opts *riskmodel.BuildOptions) {
 	t.Helper()
 	var want []uint64
 	for _, procs := range []int{1, 2, 8} {
 		runtime.GOMAXPROCS(procs)
-		m, _, err := Build(p, asof, opts)
+		m, _, err := riskmodel.Build(p, asof, opts)
 		require.NoError(t, err)
 		got := covBits(m)
 		if want == nil {
 			want = got
 			dir := filepath.Join(t.TempDir(), "model")
-			require.NoError(t, SaveModel(dir, m))
-			back, err := LoadModel(dir)
+			require.NoError(t, riskmodel.SaveModel(dir, m))
+			back, err := riskmodel.LoadModel(dir)
 			require.NoError(t, err)
 			require.Equal(t, want, covBits(back), "save/load round trip changed bits")
 			require.Equal(t, m.Assets, back.Assets)

@@ -14,15 +14,27 @@
 //     line or row, column and value (FileError); nothing is dropped silently.
 //   - Quality: the data-quality report (coverage, missing share, listings and
 //     delistings, implausible returns, robust outliers, stale runs).
-//   - GenerateDemo: a seeded simulation of an invented market with a known
-//     true covariance, used by the examples, the tests and for stress tests.
 //   - Build: any estimator by name (Methods) over a window as of a date, with
 //     a report of what it did to the data; Validate: finite, positive
 //     definite, condition number, coverage and a bias statistic.
 //   - SaveModel, LoadModel and Store.Publish: the model folder (Parquet plus a
 //     manifest with checksums) and the atomic switch of the current model.
-//   - Compare (night to night), Attribute (the analyst's report in text,
-//     CSV, JSON or HTML) and Evaluate (out-of-sample ranking of estimators).
+//   - Compare (night to night) and Attribute (the analyst's decomposition of
+//     ex-ante tracking error by group, factor and single name, with hedges).
+//
+// The root package is what a program that builds, publishes, loads and
+// explains models needs, and nothing else. Two concerns of the module live
+// under internal/, because they serve this module and are not an API:
+// internal/demo simulates the invented demo market with its true covariance
+// (the oracle of the tests and the source of testdata/demo), and
+// internal/evaluate ranks estimators out of sample for examples/evaluate.
+//
+// Reports are rendered by methods of the result they render: an Attribution
+// writes itself as text, CSV, JSON or HTML (WriteText, WriteCSV, WriteJSON,
+// WriteHTML), as the evaluation's result does in its own package. Every
+// format of one result is a view of the same fields, so they sit beside the
+// type whose fields they show, and each takes an io.Writer so that a program
+// decides where the bytes go.
 //
 // The math packages speak gonum (mat.Matrix with rows as dates and columns as
 // assets, mat.Symmetric, []float64 weights) and know nothing of files:
@@ -44,7 +56,7 @@
 // The arrows point down: ewma, shrink and te import none of the other
 // packages; factor may use ewma and shrink; the root package uses them all.
 // The dense products they share run on one multi-core kernel under
-// internal/, which users cannot import.
+// internal/dense, which users cannot import.
 //
 // # Data flow
 //

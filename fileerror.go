@@ -1,26 +1,9 @@
 package riskmodel
 
 import (
-	"errors"
 	"fmt"
 	"strconv"
 	"strings"
-)
-
-// Errors returned when a file cannot be read. They are wrapped in a
-// *FileError that says where the problem is; test with errors.Is. The panel
-// errors ErrEmpty, ErrDuplicate, ErrImpossible and ErrNonFinite are used for
-// files too.
-var (
-	ErrMissingColumn    = errors.New("required column is missing")
-	ErrUnexpectedColumn = errors.New("unexpected column")
-	ErrMissingValue     = errors.New("required value is empty")
-	ErrBadDate          = errors.New("not a calendar date of the form YYYY-MM-DD")
-	ErrBadNumber        = errors.New("not a number")
-	ErrColumnType       = errors.New("column has an unsupported type")
-	ErrNotParquet       = errors.New("not a Parquet file")
-	ErrTruncated        = errors.New("file is truncated")
-	ErrFormat           = errors.New("unknown file format: the name must end in .csv or .parquet")
 )
 
 // FileError is the error for bad input in a file, modelled on encoding/csv's

@@ -1,7 +1,6 @@
 package riskmodel
 
 import (
-	"errors"
 	"fmt"
 	"sort"
 )
@@ -32,10 +31,6 @@ func ActiveWeights(portfolio, benchmark []Holding) map[string]float64 {
 	}
 	return a
 }
-
-// ErrNoGroupColumn reports a grouping column that no asset of a metadata
-// file has.
-var ErrNoGroupColumn = errors.New("no asset has this metadata column")
 
 // GroupLabels returns each asset's value in the metadata column (a header of
 // the asset file: "sector", "size_bucket" or any other). An asset with an

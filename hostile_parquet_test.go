@@ -101,7 +101,7 @@ func editParquet(t *testing.T, b []byte, footer func(*format.FileMetaData), page
 // layout.
 func TestParquetHostileClaims(t *testing.T) {
 	var b bytes.Buffer
-	require.NoError(t, WriteReturnsParquetTo(&b, hostilePanel(t)))
+	require.NoError(t, WriteReturnsParquet(&b, hostilePanel(t)))
 	valid := b.Bytes()
 	keep := func(*format.FileMetaData) {}
 	// The editor alone changes nothing.
@@ -149,7 +149,7 @@ func TestParquetHostileClaims(t *testing.T) {
 	t.Run("holdings", func(t *testing.T) {
 		dir := t.TempDir()
 		path := filepath.Join(dir, "h.parquet")
-		require.NoError(t, WriteHoldings(path, []Holding{{"QX1", 0.5}, {"QX2", 0.5}}))
+		require.NoError(t, WriteHoldingsFile(path, []Holding{{"QX1", 0.5}, {"QX2", 0.5}}))
 		good, err := os.ReadFile(path)
 		require.NoError(t, err)
 		require.NoError(t, os.WriteFile(path, editParquet(t, good, keep, func(h *format.PageHeader) {

@@ -50,9 +50,9 @@ func BenchmarkReadReturns(b *testing.B) {
 			path := filepath.Join(dir, "r."+format)
 			var err error
 			if format == "parquet" {
-				err = WriteReturnsParquet(path, p)
+				err = WriteReturnsParquetFile(path, p)
 			} else {
-				err = WriteReturnsCSV(path, p, false)
+				err = WriteReturnsCSVFile(path, p, false)
 			}
 			if err != nil {
 				b.Fatal(err)
@@ -74,7 +74,7 @@ func BenchmarkWriteReturnsParquet(b *testing.B) {
 	path := filepath.Join(b.TempDir(), "r.parquet")
 	b.ReportAllocs()
 	for b.Loop() {
-		if err := WriteReturnsParquet(path, p); err != nil {
+		if err := WriteReturnsParquetFile(path, p); err != nil {
 			b.Fatal(err)
 		}
 	}

@@ -1,7 +1,6 @@
 package riskmodel
 
 import (
-	"errors"
 	"fmt"
 	"math"
 	"slices"
@@ -47,10 +46,6 @@ func (m *Model) Covariance() Covariance {
 	}
 	return m.Dense
 }
-
-// ErrInvalidModel reports a model that fails validation or whose files are
-// inconsistent.
-var ErrInvalidModel = errors.New("invalid model")
 
 // check verifies the model's shape and the basic facts a store relies on.
 func (m *Model) check() error {

@@ -1,7 +1,6 @@
 package riskmodel
 
 import (
-	"errors"
 	"fmt"
 	"math"
 	"slices"
@@ -37,18 +36,6 @@ type Record struct {
 	Asset  string
 	Return float64 // NaN for an explicitly missing value
 }
-
-// Errors returned when a panel cannot be built. They are wrapped with context;
-// test with errors.Is.
-var (
-	ErrEmpty          = errors.New("no data")
-	ErrDuplicate      = errors.New("duplicate observation")
-	ErrImpossible     = errors.New("simple return at or below -1 is impossible")
-	ErrNonFinite      = errors.New("value is not finite")
-	ErrUnsorted       = errors.New("dates are not strictly increasing")
-	ErrUnknownAsset   = errors.New("unknown asset")
-	ErrPeriodsPerYear = errors.New("periods per year must be positive and finite")
-)
 
 // NewPanel builds a panel from dates (strictly increasing), asset identifiers
 // (unique, non-empty) and a T×N matrix of returns with NaN for missing. The

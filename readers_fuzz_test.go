@@ -107,10 +107,10 @@ func fuzzPanel() *Panel {
 
 func FuzzReadReturnsCSV(f *testing.F) {
 	var long, wide bytes.Buffer
-	if err := WriteReturnsCSVTo(&long, fuzzPanel(), false); err != nil {
+	if err := WriteReturnsCSV(&long, fuzzPanel(), false); err != nil {
 		f.Fatal(err)
 	}
-	if err := WriteReturnsCSVTo(&wide, fuzzPanel(), true); err != nil {
+	if err := WriteReturnsCSV(&wide, fuzzPanel(), true); err != nil {
 		f.Fatal(err)
 	}
 	f.Add(long.Bytes())
@@ -132,7 +132,7 @@ func FuzzReadReturnsCSV(f *testing.F) {
 
 func FuzzReadReturnsParquet(f *testing.F) {
 	var b bytes.Buffer
-	if err := WriteReturnsParquetTo(&b, fuzzPanel()); err != nil {
+	if err := WriteReturnsParquet(&b, fuzzPanel()); err != nil {
 		f.Fatal(err)
 	}
 	f.Add(b.Bytes())
@@ -181,7 +181,7 @@ func fuzzExt(parquetFile bool) string {
 
 func FuzzReadAssets(f *testing.F) {
 	c, p := metaSeeds(f, func(path string) error {
-		return WriteAssets(path, []AssetInfo{
+		return WriteAssetsFile(path, []AssetInfo{
 			{Asset: "QX1", Sector: "Tools", SizeBucket: "large", MarketCap: 1.5e9, Attributes: map[string]string{"region": "north"}},
 			{Asset: "QX2", Sector: "Food", MarketCap: math.NaN()},
 		})
@@ -212,7 +212,7 @@ func FuzzReadAssets(f *testing.F) {
 
 func FuzzReadHoldings(f *testing.F) {
 	c, p := metaSeeds(f, func(path string) error {
-		return WriteHoldings(path, []Holding{{"QX1", 0.6}, {"QX2", 0.4}, {"QX3", -0.1}})
+		return WriteHoldingsFile(path, []Holding{{"QX1", 0.6}, {"QX2", 0.4}, {"QX3", -0.1}})
 	})
 	f.Add(false, c)
 	f.Add(true, p)

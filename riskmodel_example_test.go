@@ -4,6 +4,8 @@ import (
 	"fmt"
 	"log"
 
+	"github.com/riskmodel/riskmodel/internal/demo"
+
 	"github.com/riskmodel/riskmodel"
 	"github.com/riskmodel/riskmodel/te"
 )
@@ -13,7 +15,7 @@ import (
 // into its factor and specific parts. The panel here is a small invented
 // market; ReadReturns reads a real one from Parquet or CSV.
 func Example() {
-	demo, err := riskmodel.GenerateDemo(&riskmodel.DemoConfig{Seed: 1, Assets: 120, Sectors: 6, Dates: 600})
+	demo, err := demo.Generate(&demo.Config{Seed: 1, Assets: 120, Sectors: 6, Dates: 600})
 	if err != nil {
 		log.Fatal(err)
 	}

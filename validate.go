@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"math"
 
+	"github.com/riskmodel/riskmodel/internal/dense"
 	"gonum.org/v1/gonum/blas/blas64"
 	"gonum.org/v1/gonum/mat"
 )
@@ -130,9 +131,9 @@ func Validate(m *Model, opts *ValidateOptions) *Validation {
 			return true
 		}
 	}
-	v.MaxEigenvalue = powerIteration(n, mul)
+	v.MaxEigenvalue = dense.LargestEigenvalue(n, mul)
 	if v.PositiveDefinite {
-		inv := powerIteration(n, func(dst, x []float64) {
+		inv := dense.LargestEigenvalue(n, func(dst, x []float64) {
 			if !solve(dst, x) {
 				clear(dst)
 			}
@@ -252,47 +253,4 @@ func quadForm(m *Model, w []float64) float64 {
 	}
 	x := mat.NewVecDense(len(w), w)
 	return mat.Inner(x, m.Dense, x)
-}
-
-// powerIteration returns the largest eigenvalue of the symmetric positive
-// semidefinite operator mul by the power method from a fixed start, stopping
-// when the Rayleigh quotient changes by less than 1e-9 relative.
-func powerIteration(n int, mul func(dst, x []float64)) float64 {
-	x := make([]float64, n)
-	y := make([]float64, n)
-	for i := range x {
-		// A fixed start with weight on every direction, so the result is
-		// deterministic.
-		x[i] = 1 + 0.5*math.Sin(float64(i+1))
-	}
-	normalize(x)
-	var lambda float64
-	for it := 0; it < 500; it++ {
-		mul(y, x)
-		next := blas64.Dot(blas64.Vector{N: n, Inc: 1, Data: x}, blas64.Vector{N: n, Inc: 1, Data: y})
-		if normalize(y) == 0 {
-			return 0
-		}
-		x, y = y, x
-		if it > 2 && math.Abs(next-lambda) <= 1e-9*math.Abs(next) {
-			return next
-		}
-		lambda = next
-	}
-	return lambda
-}
-
-func normalize(x []float64) float64 {
-	var s float64
-	for _, v := range x {
-		s += v * v
-	}
-	s = math.Sqrt(s)
-	if s == 0 {
-		return 0
-	}
-	for i := range x {
-		x[i] /= s
-	}
-	return s
 }

@@ -4,10 +4,11 @@ import (
 	"math"
 	"testing"
 
+	"github.com/riskmodel/riskmodel/internal/demo"
+
 	"github.com/stretchr/testify/require"
 	"gonum.org/v1/gonum/mat"
 
-	riskmodel "github.com/riskmodel/riskmodel"
 	"github.com/riskmodel/riskmodel/ewma"
 	"github.com/riskmodel/riskmodel/factor"
 )
@@ -22,7 +23,7 @@ func TestDemoMarket(t *testing.T) {
 	if testing.Short() {
 		t.Skip("demo market fit")
 	}
-	d, err := riskmodel.GenerateDemo(&riskmodel.DemoConfig{Seed: 5, Assets: 200, Sectors: 4, Dates: 750, Stationary: true})
+	d, err := demo.Generate(&demo.Config{Seed: 5, Assets: 200, Sectors: 4, Dates: 750, Stationary: true})
 	require.NoError(t, err)
 	x := d.Panel.ReturnsTo(nil)
 	k := len(d.FactorNames)

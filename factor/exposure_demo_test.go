@@ -4,22 +4,23 @@ import (
 	"math"
 	"testing"
 
+	"github.com/riskmodel/riskmodel/internal/demo"
+
 	"github.com/stretchr/testify/require"
 	"gonum.org/v1/gonum/mat"
 	"gonum.org/v1/gonum/stat"
 
-	riskmodel "github.com/riskmodel/riskmodel"
 	"github.com/riskmodel/riskmodel/ewma"
 	"github.com/riskmodel/riskmodel/factor"
 )
 
-// demoExposureInput is a stationary demo market (riskmodel.GenerateDemo:
+// demoExposureInput is a stationary demo market (demo.Generate:
 // known market, sector and style factors, Student-t specific returns) with
 // the settings that give it to FitExposure: sectors and caps from its asset
 // metadata, its four true style scores as caller characteristics, and equal
 // weights (half-lives far beyond the sample) since the truth does not move.
 type demoExposureInput struct {
-	d     *riskmodel.Demo
+	d     *demo.Market
 	x     *mat.Dense
 	s     factor.ExposureSettings
 	truth *mat.Dense // T×K true factor returns
@@ -29,7 +30,7 @@ type demoExposureInput struct {
 
 func demoExposure(t *testing.T, seed uint64, n, sectors, dates int, beta bool) demoExposureInput {
 	t.Helper()
-	d, err := riskmodel.GenerateDemo(&riskmodel.DemoConfig{Seed: seed, Assets: n, Sectors: sectors, Dates: dates, Stationary: true})
+	d, err := demo.Generate(&demo.Config{Seed: seed, Assets: n, Sectors: sectors, Dates: dates, Stationary: true})
 	require.NoError(t, err)
 	in := demoExposureInput{d: d, x: d.Panel.ReturnsTo(nil), truth: d.FactorReturnsTo(nil), b: d.ExposuresTo(nil)}
 	in.sigma = d.TrueCovarianceTo(nil, dates-1)
@@ -168,7 +169,7 @@ func TestExposureRecoversDemoFactors(t *testing.T) {
 
 // demoPortfolios are the demo's benchmark, its fund's active weights and an
 // equal-weighted portfolio.
-func demoPortfolios(t *testing.T, d *riskmodel.Demo) map[string][]float64 {
+func demoPortfolios(t *testing.T, d *demo.Market) map[string][]float64 {
 	bw, err := d.Weights(d.Benchmark)
 	require.NoError(t, err)
 	fw, err := d.Weights(d.Fund)

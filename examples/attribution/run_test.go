@@ -8,6 +8,8 @@ import (
 	"strings"
 	"testing"
 
+	"github.com/riskmodel/riskmodel/internal/demo"
+
 	"github.com/stretchr/testify/require"
 
 	"github.com/riskmodel/riskmodel"
@@ -23,7 +25,7 @@ func runReport(args ...string) (code int, stdout, stderr string) {
 // store folder and the market's files.
 func store(t *testing.T) (dir string, files map[string]string) {
 	t.Helper()
-	d, err := riskmodel.GenerateDemo(&riskmodel.DemoConfig{Seed: 4, Assets: 80, Dates: 300})
+	d, err := demo.Generate(&demo.Config{Seed: 4, Assets: 80, Dates: 300})
 	require.NoError(t, err)
 	data := t.TempDir()
 	require.NoError(t, d.WriteFiles(data))

@@ -24,6 +24,8 @@ import (
 	"slices"
 	"strings"
 
+	"github.com/riskmodel/riskmodel/internal/evaluate"
+
 	"github.com/riskmodel/riskmodel"
 )
 
@@ -70,7 +72,7 @@ func run(args []string, stdout, stderr io.Writer) int {
 		return exitOK
 	}
 	if err == nil {
-		err = evaluate(cfg, stdout, stderr)
+		err = runEvaluation(cfg, stdout, stderr)
 	}
 	if err == nil {
 		return exitOK
@@ -95,11 +97,11 @@ func parseFlags(args []string, stderr io.Writer) (config, error) {
 	fs.StringVar(&cfg.fund, "fund", "", "fund holdings, CSV or Parquet; \"none\" to skip (default the demo's with the demo's returns)")
 	fs.StringVar(&cfg.assets, "assets", "", "asset metadata (sector, market_cap), CSV or Parquet, for the exposure and hybrid estimators; \"none\" to skip them (default the demo's with the demo's returns)")
 	methods := fs.String("methods", "all", "comma-separated estimators, or all (every one but exposure and hybrid, which need -assets and a -window above 252): "+strings.Join(riskmodel.Methods, ","))
-	fs.IntVar(&cfg.step, "step", riskmodel.DefaultEvaluateStep, "dates between rebalance dates, and the length of each test period")
-	fs.IntVar(&cfg.window, "window", riskmodel.DefaultEvaluateWindow, "dates of history each fit sees")
-	fs.IntVar(&cfg.portfolios, "portfolios", riskmodel.DefaultRandomPortfolios, "random long-only and random active test portfolios of each kind")
-	fs.IntVar(&cfg.tracking, "tracking-names", riskmodel.DefaultTrackingNames, "largest benchmark names the tracking portfolio may hold")
-	fs.Uint64Var(&cfg.seed, "seed", riskmodel.DefaultEvaluateSeed, "seed of the random portfolios and of the factor model")
+	fs.IntVar(&cfg.step, "step", evaluate.DefaultStep, "dates between rebalance dates, and the length of each test period")
+	fs.IntVar(&cfg.window, "window", evaluate.DefaultWindow, "dates of history each fit sees")
+	fs.IntVar(&cfg.portfolios, "portfolios", evaluate.DefaultRandomPortfolios, "random long-only and random active test portfolios of each kind")
+	fs.IntVar(&cfg.tracking, "tracking-names", evaluate.DefaultTrackingNames, "largest benchmark names the tracking portfolio may hold")
+	fs.Uint64Var(&cfg.seed, "seed", evaluate.DefaultSeed, "seed of the random portfolios and of the factor model")
 	fs.StringVar(&cfg.format, "format", "text", "output format: text, csv or json")
 	fs.StringVar(&cfg.chart, "chart", "", "write an SVG chart of forecast against realised risk to this file")
 	fs.BoolVar(&cfg.truth, "truth", true, "with the demo's returns, add its true covariance as the oracle and the losses against it")

@@ -6,16 +6,19 @@ import (
 	"math"
 	"os"
 
+	"github.com/riskmodel/riskmodel/internal/demo"
+	"github.com/riskmodel/riskmodel/internal/evaluate"
+
 	"github.com/riskmodel/riskmodel"
 )
 
-// evaluate reads the inputs, runs the evaluation and writes the results.
-func evaluate(cfg config, stdout, stderr io.Writer) error {
+// runEvaluation reads the inputs, runs the evaluation and writes the results.
+func runEvaluation(cfg config, stdout, stderr io.Writer) error {
 	panel, err := riskmodel.ReadReturns(cfg.returns, nil)
 	if err != nil {
 		return badInput{err}
 	}
-	opts := &riskmodel.EvaluateOptions{
+	opts := &evaluate.Options{
 		Step: cfg.step, Window: cfg.window, RandomPortfolios: cfg.portfolios,
 		TrackingNames: cfg.tracking, Seed: cfg.seed, Workers: cfg.workers,
 	}
@@ -38,7 +41,7 @@ func evaluate(cfg config, stdout, stderr io.Writer) error {
 		if needsMetadata(m) && sectors == nil {
 			return badInput{fmt.Errorf("-methods %s needs -assets with sector and market_cap columns", m)}
 		}
-		opts.Methods = append(opts.Methods, riskmodel.EvaluateMethod{Build: riskmodel.BuildOptions{
+		opts.Methods = append(opts.Methods, evaluate.Estimator{Build: riskmodel.BuildOptions{
 			Method: m, Seed: cfg.seed, Sectors: sectors, MarketCaps: caps,
 		}})
 	}
@@ -49,9 +52,9 @@ func evaluate(cfg config, stdout, stderr io.Writer) error {
 		return err
 	}
 	if cfg.demo && cfg.truth {
-		// The bundled files are GenerateDemo(nil) written out; draw it again
+		// The bundled files are demo.Generate(nil) written out; draw it again
 		// for its truth, and use the truth only if the panel is the same.
-		d, err := riskmodel.GenerateDemo(nil)
+		d, err := demo.Generate(nil)
 		if err != nil {
 			return err
 		}
@@ -69,7 +72,7 @@ func evaluate(cfg config, stdout, stderr io.Writer) error {
 			}
 		}
 	}
-	ev, err := riskmodel.Evaluate(panel, opts)
+	ev, err := evaluate.Run(panel, opts)
 	if err != nil {
 		return badInput{err}
 	}

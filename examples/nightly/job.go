@@ -151,7 +151,7 @@ func quality(cfg config, in *inputs, asof riskmodel.Date, stdout io.Writer, log 
 	minObs := cfg.build.MinObs
 	if minObs == 0 {
 		t, _ := win.Dims()
-		minObs = max(2, t/2) // Build's default
+		minObs = riskmodel.DefaultMinObs(t)
 	}
 	q := riskmodel.Quality(win, &riskmodel.QualityOptions{MinObs: minObs})
 	mm := matchAssets(win, in.assets)
@@ -332,7 +332,7 @@ func compare(in *inputs, prev, m *riskmodel.Model, stdout io.Writer, log *slog.L
 func writeDense(path string, m *riskmodel.Model, log *slog.Logger) error {
 	start := time.Now()
 	tmp := filepath.Join(filepath.Dir(path), "."+filepath.Base(path)+".partial")
-	if err := riskmodel.SaveDenseCSV(tmp, m); err != nil {
+	if err := riskmodel.WriteDenseCSVFile(tmp, m); err != nil {
 		os.Remove(tmp)
 		return fmt.Errorf("-dense: %w", err)
 	}

@@ -11,6 +11,8 @@ import (
 	"strings"
 	"testing"
 
+	"github.com/riskmodel/riskmodel/internal/demo"
+
 	"github.com/stretchr/testify/require"
 	"gonum.org/v1/gonum/mat"
 
@@ -44,15 +46,15 @@ func fakeRepo(t *testing.T) string {
 	})
 	p, err := riskmodel.NewPanel(dates, []string{"QN1", "QN2", "QN3"}, r, 0)
 	require.NoError(t, err)
-	require.NoError(t, riskmodel.WriteReturnsParquet(filepath.Join(demo, "returns.parquet"), p))
-	require.NoError(t, riskmodel.WriteAssets(filepath.Join(demo, "assets.csv"), []riskmodel.AssetInfo{
+	require.NoError(t, riskmodel.WriteReturnsParquetFile(filepath.Join(demo, "returns.parquet"), p))
+	require.NoError(t, riskmodel.WriteAssetsFile(filepath.Join(demo, "assets.csv"), []riskmodel.AssetInfo{
 		{Asset: "QN1", Sector: "Harbour", MarketCap: math.NaN()},
 		{Asset: "QN2", Sector: "Harbour", MarketCap: math.NaN()},
 		{Asset: "QN3", Sector: "Orchard", MarketCap: math.NaN()},
 		{Asset: "QN9", Sector: "Orchard", MarketCap: math.NaN()},
 	}))
-	require.NoError(t, riskmodel.WriteHoldings(filepath.Join(demo, "fund.csv"), []riskmodel.Holding{{Asset: "QN1", Weight: 0.7}, {Asset: "QN2", Weight: 0.3}}))
-	require.NoError(t, riskmodel.WriteHoldings(filepath.Join(demo, "benchmark.csv"), []riskmodel.Holding{{Asset: "QN1", Weight: 0.5}, {Asset: "QN2", Weight: 0.5}}))
+	require.NoError(t, riskmodel.WriteHoldingsFile(filepath.Join(demo, "fund.csv"), []riskmodel.Holding{{Asset: "QN1", Weight: 0.7}, {Asset: "QN2", Weight: 0.3}}))
+	require.NoError(t, riskmodel.WriteHoldingsFile(filepath.Join(demo, "benchmark.csv"), []riskmodel.Holding{{Asset: "QN1", Weight: 0.5}, {Asset: "QN2", Weight: 0.5}}))
 	return root
 }
 
@@ -65,7 +67,7 @@ func smallMarket(t *testing.T, stationary bool) (dir string, args []string) {
 	if stationary {
 		dates = 600 // room for the exposure methods' style look-back before a 500-date window's regressions
 	}
-	d, err := riskmodel.GenerateDemo(&riskmodel.DemoConfig{Seed: 5, Assets: 60, Dates: dates, Stationary: stationary})
+	d, err := demo.Generate(&demo.Config{Seed: 5, Assets: 60, Dates: dates, Stationary: stationary})
 	require.NoError(t, err)
 	dir = t.TempDir()
 	require.NoError(t, d.WriteFiles(dir))

@@ -11,6 +11,8 @@ import (
 	"testing"
 	"time"
 
+	"github.com/riskmodel/riskmodel/internal/demo"
+
 	"github.com/stretchr/testify/require"
 	"gonum.org/v1/gonum/mat"
 
@@ -37,11 +39,11 @@ func TestKillMidPublish(t *testing.T) {
 	require.NoError(t, build.Run())
 	t.Logf("built the binary in %v", time.Since(start))
 
-	d, err := riskmodel.GenerateDemo(&riskmodel.DemoConfig{Seed: 9, Assets: 1500, Dates: 300, Stationary: true})
+	d, err := demo.Generate(&demo.Config{Seed: 9, Assets: 1500, Dates: 300, Stationary: true})
 	require.NoError(t, err)
 	rets, assets := filepath.Join(tmp, "returns.parquet"), filepath.Join(tmp, "assets.csv")
-	require.NoError(t, riskmodel.WriteReturnsParquet(rets, d.Panel))
-	require.NoError(t, riskmodel.WriteAssets(assets, d.Assets))
+	require.NoError(t, riskmodel.WriteReturnsParquetFile(rets, d.Panel))
+	require.NoError(t, riskmodel.WriteAssetsFile(assets, d.Assets))
 	store := riskmodel.Store{Dir: filepath.Join(tmp, "store")}
 	args := []string{"-returns", rets, "-assets", assets, "-method", "ledoit-wolf", "-window", "300",
 		"-out", store.Dir, "-log-format", "json"}

@@ -10,6 +10,8 @@ import (
 	"strings"
 	"testing"
 
+	"github.com/riskmodel/riskmodel/internal/demo"
+
 	"github.com/stretchr/testify/require"
 	"gonum.org/v1/gonum/mat"
 
@@ -125,7 +127,7 @@ func mustGetwd(t *testing.T) string {
 }
 
 func TestDenseModelShortlist(t *testing.T) {
-	d, err := riskmodel.GenerateDemo(&riskmodel.DemoConfig{Seed: 8, Assets: 70, Dates: 300})
+	d, err := demo.Generate(&demo.Config{Seed: 8, Assets: 70, Dates: 300})
 	require.NoError(t, err)
 	data := t.TempDir()
 	require.NoError(t, d.WriteFiles(data))

@@ -1,5 +1,5 @@
 #!/usr/bin/python3
-"""Reference values for the confidence intervals of riskmodel.Evaluate.
+"""Reference values for the confidence intervals of evaluate.Run (internal/evaluate).
 
 Writes intervals.json. Library versions are recorded in the file.
 Run: /usr/bin/python3 testdata/evaluate/intervals.py (from the repository root).

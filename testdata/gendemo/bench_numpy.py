@@ -1,6 +1,6 @@
-"""Reference timing for BenchmarkGenerateDemo and BenchmarkDemoTrueCovariance.
+"""Reference timing for internal/demo BenchmarkGenerate and BenchmarkTrueCovariance.
 
-numpy 1.24 (Debian python3-numpy) does the same work as GenerateDemo's
+numpy 1.24 (Debian python3-numpy) does the same work as demo.Generate's
 simulation loop: per date, correlated factor shocks, GARCH(1,1) updates of
 factor and specific variance multipliers, Student-t specific returns
 (standard_t scaled to unit variance) and r = B f + e; then B F Bᵀ + D for one

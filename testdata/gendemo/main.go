@@ -1,4 +1,4 @@
-// Command gendemo writes the bundled demo market, GenerateDemo(nil), into
+// Command gendemo writes the bundled demo market, demo.Generate(nil), into
 // testdata/demo. Run it from the repository root:
 //
 //	go run ./testdata/gendemo
@@ -13,13 +13,13 @@ import (
 	"log"
 	"os"
 
-	"github.com/riskmodel/riskmodel"
+	"github.com/riskmodel/riskmodel/internal/demo"
 )
 
 func main() {
 	out := flag.String("out", "testdata/demo", "folder to write the demo files into")
 	flag.Parse()
-	d, err := riskmodel.GenerateDemo(nil)
+	d, err := demo.Generate(nil)
 	if err != nil {
 		log.Fatal(err)
 	}

@@ -1,0 +1,715 @@
+package evaluate
+
+import (
+	"errors"
+	"fmt"
+	"math"
+	"math/rand/v2"
+	"runtime"
+	"slices"
+	"sync"
+	"time"
+
+	"github.com/riskmodel/riskmodel"
+
+	"gonum.org/v1/gonum/mat"
+)
+
+// Defaults of Options.
+const (
+	DefaultStep             = 21  // rebalance monthly: 21 business days (common practice, no source)
+	DefaultWindow           = 252 // one year of daily history
+	DefaultRandomPortfolios = 100 // random portfolios of each kind
+	DefaultTrackingNames    = 50  // names of the minimum-TE tracking portfolio
+	DefaultSeed             = 1   // seed of the random portfolios and of the factor fits
+	OracleName              = "oracle"
+	minTestPortfolios       = 1
+)
+
+// ErrInput reports options or data that Evaluate cannot work with.
+var ErrInput = errors.New("cannot evaluate")
+
+// Estimator is one estimator to evaluate: a method name of riskmodel.Build with
+// its settings, under a label.
+type Estimator struct {
+	// Name labels the estimator in the results; default riskmodel.Build.Method.
+	Name string
+	// riskmodel.Build holds the estimator's settings. Its Window and MinObs are
+	// replaced by those of Options, so that every estimator covers
+	// the same assets on a date; its Previous is ignored.
+	Build riskmodel.BuildOptions
+}
+
+// Options configure Evaluate. A nil *Options, or a zero
+// field, means the documented default.
+type Options struct {
+	// riskmodel.Methods are the estimators to evaluate; nil means every name in
+	// riskmodel.Methods with riskmodel.Build's defaults (the factor model with Seed
+	// DefaultSeed), except the exposure and hybrid methods, which
+	// need asset metadata in their riskmodel.BuildOptions. Estimators are compared on
+	// the assets that every one of them keeps on a date.
+	Methods []Estimator
+	// Step is the number of dates between rebalance dates, and the length
+	// of each test period; default DefaultStep.
+	Step int
+	// Window is the number of dates of history each fit sees; default
+	// riskmodel.DefaultWindow, or T − Step when the panel is shorter than
+	// riskmodel.DefaultWindow + Step.
+	Window int
+	// MinObs drops assets with fewer observations in the window; default
+	// half the window, as riskmodel.Build.
+	MinObs int
+
+	// Truth, if set, gives the true covariance of the returns of a row of
+	// the panel over all its columns, as Demo.TrueCovarianceTo does (it must
+	// be safe for concurrent use). It adds the estimator OracleName, which
+	// forecasts with the truth of the first test row, and the losses
+	// against the truth of each test period (the mean of the rows' true
+	// covariances).
+	Truth func(dst *mat.SymDense, row int) *mat.SymDense
+
+	// Benchmark is the benchmark of the active portfolios, renormalized over
+	// the assets of each date; nil means equal weights.
+	Benchmark []riskmodel.Holding
+	// Fund, with Benchmark, adds the bias statistic of the fund's active
+	// weights.
+	Fund []riskmodel.Holding
+	// RandomPortfolios is the number of random long-only portfolios and of
+	// random active portfolios (tests of the bias statistic); default
+	// DefaultRandomPortfolios, negative means none.
+	RandomPortfolios int
+	// TrackingNames is the number of the benchmark's largest names that the
+	// minimum-TE tracking portfolio may hold; default DefaultTrackingNames.
+	TrackingNames int
+	// Seed drives the random portfolios; default DefaultSeed. Each
+	// rebalance date draws from its own stream, so the results do not depend
+	// on the order in which dates are processed.
+	Seed uint64
+	// Workers is the number of rebalance dates processed at once; default
+	// GOMAXPROCS.
+	Workers int
+	// Progress, if set, is called after each rebalance date with the number
+	// done and the total, from one goroutine at a time.
+	Progress func(done, total int)
+}
+
+// Result is the result of Evaluate.
+type Result struct {
+	Scores         []Score  // one per estimator, best first
+	Metrics        []string // the metrics behind Rank, in the order of Score.Ranks
+	Periods        []Period
+	Step, Window   int
+	TestDates      int     // dates of all test periods together
+	PeriodsPerYear float64 // the panel's, used to annualize
+	// Recommendation names the best estimator other than the oracle, with the
+	// reason, in one line.
+	Recommendation string
+	Elapsed        time.Duration // wall-clock time of Evaluate; not used in any ranking
+}
+
+// Score holds an estimator's metrics over all test periods. Volatilities and
+// tracking errors are annualized with the panel's periods per year.
+type Score struct {
+	Name   string
+	Method string // riskmodel.Build's method, or OracleName
+	// Rank is 1 for the best estimator: the order of MeanRank, the mean of
+	// Ranks over the metrics (ties broken by the realised minimum-variance
+	// volatility, then by the order of the options). Timings never enter it.
+	Rank     int
+	MeanRank float64
+	Ranks    []int // rank on each of Result.Metrics
+
+	MinVariance PortfolioScore // unconstrained global minimum-variance portfolio
+	LongOnly    PortfolioScore // long-only global minimum-variance portfolio
+	Tracking    PortfolioScore // minimum-TE tracking portfolio (active against the benchmark)
+
+	RandomLongOnly BiasScore       // random long-only portfolios
+	RandomActive   BiasScore       // random active portfolios around the benchmark
+	Fund           *riskmodel.Bias // the fund's active weights; nil without Fund
+
+	// Losses against the truth, averaged over the rebalance dates, and the
+	// PRIAL of each against the sample covariance, in %; NaN without Truth
+	// (and the MV loss NaN where the forecast is singular).
+	FrobeniusLoss, MVLoss   float64
+	FrobeniusPRIAL, MVPRIAL float64
+
+	FitSeconds float64 // mean wall-clock seconds of one fit; reported, never ranked
+	// Ridged counts the dates whose dense forecast was singular or had a
+	// condition number above 1e12, so the unconstrained minimum-variance
+	// portfolio used a ridge of 1e-6 times the mean variance; NotConverged
+	// counts the long-only solves that hit the iteration limit.
+	Ridged, NotConverged int
+}
+
+// PortfolioScore compares the realised risk of a portfolio built from each
+// forecast with the forecast.
+type PortfolioScore struct {
+	// Realised is the standard deviation of the portfolio's returns over all
+	// test dates, annualized, with its chi-square interval.
+	Realised Interval
+	// Forecast is the root mean square of the forecast volatilities (or
+	// tracking errors), annualized.
+	Forecast float64
+	// riskmodel.Bias is the bias statistic of the returns standardized by their
+	// forecast.
+	Bias riskmodel.Bias
+}
+
+// BiasScore summarizes the bias statistics of many test portfolios, each
+// redrawn on every rebalance date and standardized by its forecast.
+type BiasScore struct {
+	Tests int
+	// MeanBias is the mean bias statistic and MeanAbsError the mean of
+	// |bias − 1| (the ranked metric).
+	MeanBias, MeanAbsError float64
+	// Inside is the share of tests whose bias statistic is inside the band
+	// 1 ± √(2/T), with its Wilson interval.
+	Inside Interval
+}
+
+// Period is one rebalance date and the test period after it.
+type Period struct {
+	AsOf         riskmodel.Date // the last date the forecasts see
+	First, Last  riskmodel.Date // the test dates
+	Assets       int
+	ReferenceVol float64 // realised volatility of the reference portfolio over the test period, annualized
+	// Forecasts are the estimators' forecasts made on AsOf, in the order of
+	// Result.Scores.
+	Forecasts []PeriodForecast
+}
+
+// PeriodForecast is what one estimator forecast on a rebalance date. All
+// figures are annualized.
+type PeriodForecast struct {
+	// Reference is the forecast volatility of the reference portfolio (the
+	// benchmark, or equal weights without one).
+	Reference float64
+	// MinVariance, LongOnly and Tracking are the forecast risk of the
+	// portfolios built from this forecast.
+	MinVariance, LongOnly, Tracking float64
+	FrobeniusLoss, MVLoss           float64 // NaN without Truth
+	FitSeconds                      float64
+}
+
+// Evaluate runs a rolling out-of-sample evaluation of risk forecasts. On each
+// rebalance date (every Step dates, starting when Window dates of history
+// exist, while a full test period of Step dates follows), it fits every
+// estimator with riskmodel.Build on the trailing Window only, builds test portfolios
+// from each forecast and measures them on the next Step dates, which no fit
+// of that date sees. Metrics (Score) pool all test periods.
+//
+// Per date and estimator: the unconstrained and long-only global
+// minimum-variance portfolios (w = Σ̂⁻¹1/(1ᵀΣ̂⁻¹1); the long-only one by
+// simplexQP), the long-only portfolio of the TrackingNames largest benchmark
+// names with the least forecast tracking error, RandomPortfolios random
+// long-only and random active portfolios (the same draws for every
+// estimator), and the fund. A missing return in a test period counts as a
+// zero return, as in riskmodel.BiasStatistic.
+//
+// Rebalance dates are processed by Workers goroutines and gathered in date
+// order; every random draw is seeded, so the Result is the same whatever
+// GOMAXPROCS, apart from the timings, which no ranking uses.
+//
+// Errors: ErrInput for options that cannot be met (a Step below 2, a
+// Window below 2, no rebalance date with a full test period, an unknown
+// benchmark asset), and any error of riskmodel.Build, naming the date and estimator.
+//
+// Cost per date: one fit per estimator plus, per estimator, O(S) products
+// with the forecast (S the long-only solver's steps) and, with Truth, O(N³)
+// for the minimum-variance loss.
+func Run(p *riskmodel.Panel, opts *Options) (*Result, error) {
+	start := time.Now()
+	o, err := resolve(p, opts)
+	if err != nil {
+		return nil, err
+	}
+	t, _ := p.Dims()
+	var asof []int
+	for r := o.Window - 1; r+o.Step <= t-1; r += o.Step {
+		asof = append(asof, r)
+	}
+	if len(asof) == 0 {
+		return nil, fmt.Errorf("riskmodel: evaluate: %w: %d dates leave no test period of %d dates after a window of %d",
+			ErrInput, t, o.Step, o.Window)
+	}
+	ev := &evaluator{p: p, o: o}
+	results := make([]*dateResult, len(asof))
+	errs := make([]error, len(asof))
+	jobs := make(chan int)
+	var wg sync.WaitGroup
+	var mu sync.Mutex
+	done := 0
+	for w := 0; w < min(o.Workers, len(asof)); w++ {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			for q := range jobs {
+				results[q], errs[q] = ev.date(q, asof[q])
+				if o.Progress != nil {
+					mu.Lock()
+					done++
+					o.Progress(done, len(asof))
+					mu.Unlock()
+				}
+			}
+		}()
+	}
+	for q := range asof {
+		jobs <- q
+	}
+	close(jobs)
+	wg.Wait()
+	for _, err := range errs {
+		if err != nil {
+			return nil, err
+		}
+	}
+	out := ev.gather(results)
+	out.Elapsed = time.Since(start)
+	return out, nil
+}
+
+// resolvedOptions is Options with its defaults resolved.
+type resolvedOptions struct {
+	Options
+	names []string
+}
+
+func resolve(p *riskmodel.Panel, opts *Options) (resolvedOptions, error) {
+	var o resolvedOptions
+	if opts != nil {
+		o.Options = *opts
+	}
+	bad := func(format string, args ...any) (resolvedOptions, error) {
+		return o, fmt.Errorf("riskmodel: evaluate: %w: %s", ErrInput, fmt.Sprintf(format, args...))
+	}
+	t, _ := p.Dims()
+	if o.Step == 0 {
+		o.Step = DefaultStep
+	}
+	if o.Step < 2 {
+		return bad("Step = %d (at least 2)", o.Step)
+	}
+	if o.Window == 0 {
+		o.Window = riskmodel.DefaultWindow
+		if t < o.Window+o.Step {
+			o.Window = t - o.Step
+		}
+	}
+	if o.Window < 2 {
+		return bad("Window = %d (at least 2) for %d dates and Step %d", o.Window, t, o.Step)
+	}
+	if o.Seed == 0 {
+		o.Seed = DefaultSeed
+	}
+	if o.Methods == nil {
+		for _, m := range riskmodel.Methods {
+			if m == riskmodel.MethodExposure || m == riskmodel.MethodHybrid {
+				continue
+			}
+			o.Methods = append(o.Methods, Estimator{Build: riskmodel.BuildOptions{Method: m, Seed: DefaultSeed}})
+		}
+	} else {
+		o.Methods = slices.Clone(o.Methods)
+	}
+	if len(o.Methods) == 0 && o.Truth == nil {
+		return bad("no estimator")
+	}
+	seen := map[string]bool{}
+	for k := range o.Methods {
+		m := &o.Methods[k]
+		if m.Build.Method == "" {
+			m.Build.Method = riskmodel.MethodFactor
+		}
+		if !slices.Contains(riskmodel.Methods, m.Build.Method) {
+			return o, fmt.Errorf("riskmodel: evaluate: %w %q (one of %v)", riskmodel.ErrMethod, m.Build.Method, riskmodel.Methods)
+		}
+		if m.Name == "" {
+			m.Name = m.Build.Method
+		}
+		m.Build.Window, m.Build.MinObs, m.Build.Previous = o.Window, o.MinObs, nil
+		if seen[m.Name] || m.Name == OracleName {
+			return bad("estimator name %q is repeated or reserved", m.Name)
+		}
+		seen[m.Name] = true
+		o.names = append(o.names, m.Name)
+	}
+	if o.Truth != nil {
+		o.names = append(o.names, OracleName)
+	}
+	switch {
+	case o.RandomPortfolios == 0:
+		o.RandomPortfolios = DefaultRandomPortfolios
+	case o.RandomPortfolios < 0:
+		o.RandomPortfolios = 0
+	}
+	if o.TrackingNames == 0 {
+		o.TrackingNames = DefaultTrackingNames
+	}
+	if o.TrackingNames < 1 {
+		return bad("TrackingNames = %d", o.TrackingNames)
+	}
+	if o.Workers <= 0 {
+		o.Workers = runtime.GOMAXPROCS(0)
+	}
+	for _, h := range [][]riskmodel.Holding{o.Benchmark, o.Fund} {
+		for _, x := range h {
+			if _, ok := p.Column(x.Asset); !ok {
+				return o, fmt.Errorf("riskmodel: evaluate: %w: %w %q in the holdings", ErrInput, riskmodel.ErrUnknownAsset, x.Asset)
+			}
+			if math.IsNaN(x.Weight) || math.IsInf(x.Weight, 0) {
+				return o, fmt.Errorf("riskmodel: evaluate: %w: weight of %s: %w", ErrInput, x.Asset, riskmodel.ErrNonFinite)
+			}
+		}
+	}
+	return o, nil
+}
+
+type evaluator struct {
+	p *riskmodel.Panel
+	o resolvedOptions
+}
+
+// dateResult is everything measured for one rebalance date.
+type dateResult struct {
+	period Period
+	est    []estimatorDate
+	refRet []float64 // realised returns of the reference portfolio
+}
+
+// estimatorDate is one estimator's measures on one date: forecasts (per
+// period) and the realised returns of the test period, standardized where a
+// bias statistic needs them.
+type estimatorDate struct {
+	forecast       PeriodForecast
+	gmv, long, trk []float64 // realised returns (active for trk)
+	gmvZ, longZ    []float64 // returns over forecast volatility
+	trkZ           []float64
+	randLong       [][]float64 // z of each random long-only portfolio
+	randActive     [][]float64
+	fundZ          []float64
+	ridged         bool
+	notConverged   int
+	sampleFrob     float64 // Frobenius loss of the sample covariance (for PRIAL), set on est[0]
+	sampleMV       float64
+}
+
+// date fits every estimator on the window ending at row r and measures the
+// forecasts on rows r+1 … r+Step.
+func (ev *evaluator) date(q, r int) (*dateResult, error) {
+	p, o := ev.p, ev.o
+	asof := p.Date(r)
+	models := make([]*riskmodel.Model, 0, len(o.names))
+	secs := make([]float64, 0, len(o.names))
+	for _, m := range o.Methods {
+		t0 := time.Now()
+		b := m.Build
+		model, _, err := riskmodel.Build(p, asof, &b)
+		if err != nil {
+			return nil, fmt.Errorf("riskmodel: evaluate %s on %s: %w", m.Name, asof, err)
+		}
+		secs = append(secs, time.Since(t0).Seconds())
+		models = append(models, model)
+	}
+	var universe []string
+	if len(models) > 0 {
+		// Estimators that need metadata (exposure, hybrid) may drop assets
+		// the others keep: evaluate all on the assets common to every one.
+		universe = models[0].Assets
+		for _, m := range models[1:] {
+			have := make(map[string]bool, len(m.Assets))
+			for _, a := range m.Assets {
+				have[a] = true
+			}
+			universe = slices.DeleteFunc(slices.Clone(universe), func(a string) bool { return !have[a] })
+		}
+		for k, m := range models {
+			models[k] = restrictModel(m, universe)
+		}
+	} else {
+		// Only the oracle: the assets riskmodel.Build would keep.
+		win, err := p.Window(asof, o.Window)
+		if err != nil {
+			return nil, err
+		}
+		minObs := o.MinObs
+		if minObs == 0 {
+			t, _ := win.Dims()
+			minObs = riskmodel.DefaultMinObs(t)
+		}
+		win, _ = win.DropSparse(minObs)
+		universe = win.Assets()
+	}
+	n := len(universe)
+	if n == 0 {
+		return nil, fmt.Errorf("riskmodel: evaluate: %w: no asset on %s", riskmodel.ErrEmpty, asof)
+	}
+	cols := make([]int, n)
+	for i, a := range universe {
+		cols[i], _ = p.Column(a)
+	}
+	// Test returns, missing as zero.
+	k := o.Step
+	test := mat.NewDense(k, n, nil)
+	for d := 0; d < k; d++ {
+		for i, j := range cols {
+			if v := p.At(r+1+d, j); !math.IsNaN(v) {
+				test.Set(d, i, v)
+			}
+		}
+	}
+	var target *mat.SymDense
+	var targetInvTrace float64
+	if o.Truth != nil {
+		full := o.Truth(nil, r+1)
+		oracle := subSym(full, cols)
+		models = append(models, &riskmodel.Model{AsOf: asof, Assets: universe, PeriodsPerYear: p.PeriodsPerYear(), Method: OracleName, Dense: oracle})
+		secs = append(secs, 0)
+		target = mat.NewSymDense(n, nil)
+		for d := 0; d < k; d++ {
+			if d > 0 {
+				full = o.Truth(full, r+1+d)
+			}
+			s := subSym(full, cols)
+			target.AddSym(target, s)
+		}
+		target.ScaleSym(1/float64(k), target)
+		targetInvTrace = invTrace(target)
+	}
+	bench := ev.weights(o.Benchmark, cols)
+	if bench == nil {
+		bench = make([]float64, n)
+		for i := range bench {
+			bench[i] = 1 / float64(n)
+		}
+	}
+	var fundActive []float64
+	if o.Benchmark != nil && o.Fund != nil {
+		if f := ev.weights(o.Fund, cols); f != nil {
+			fundActive = make([]float64, n)
+			for i := range f {
+				fundActive[i] = f[i] - bench[i]
+			}
+		}
+	}
+	rs := rand.New(rand.NewPCG(o.Seed, uint64(q)))
+	randLong := make([][]float64, o.RandomPortfolios)
+	randActive := make([][]float64, o.RandomPortfolios)
+	for j := range randLong {
+		randLong[j] = randomLongOnly(rs, n)
+		randActive[j] = randomActive(rs, bench)
+	}
+	support := largestNames(bench, o.TrackingNames)
+
+	res := &dateResult{
+		period: Period{AsOf: asof, First: p.Date(r + 1), Last: p.Date(r + k), Assets: n},
+		refRet: portfolioReturns(test, bench),
+	}
+	ann := math.Sqrt(p.PeriodsPerYear())
+	res.period.ReferenceVol = evalStd(res.refRet) * ann
+	var sampleCov *mat.SymDense
+	if target != nil {
+		for k, m := range o.Methods {
+			if m.Build.Method == riskmodel.MethodSample {
+				sampleCov = models[k].Dense
+				break
+			}
+		}
+		if sampleCov == nil {
+			b := riskmodel.BuildOptions{Method: riskmodel.MethodSample, Window: o.Window, MinObs: o.MinObs}
+			sm, _, err := riskmodel.Build(p, asof, &b)
+			if err != nil {
+				return nil, fmt.Errorf("riskmodel: evaluate sample (for the PRIAL) on %s: %w", asof, err)
+			}
+			sampleCov = sm.Dense
+		}
+	}
+	tmp := make([]float64, n)
+	for e, m := range models {
+		op := newCovOp(m.Covariance())
+		ed := estimatorDate{}
+		ed.forecast.FitSeconds = secs[e]
+		ed.forecast.Reference = math.Sqrt(op.quad(bench, tmp)) * ann
+		vol := func(w []float64) float64 { return math.Sqrt(op.quad(w, tmp)) }
+		measure := func(w []float64) (ret, z []float64, sigma float64) {
+			ret = portfolioReturns(test, w)
+			sigma = vol(w)
+			z = make([]float64, len(ret))
+			for d, v := range ret {
+				z[d] = v / sigma
+			}
+			return ret, z, sigma
+		}
+		var s float64
+		if w := op.minVariance(); w != nil {
+			ed.gmv, ed.gmvZ, s = measure(w)
+		} else {
+			ed.gmv, ed.gmvZ, s = nanSeries(k), nanSeries(k), math.NaN()
+		}
+		ed.forecast.MinVariance = s * ann
+		ed.ridged = op.ridged
+		w, sr := op.simplexQP(nil, nil)
+		if !sr.Converged {
+			ed.notConverged++
+		}
+		ed.long, ed.longZ, s = measure(w)
+		ed.forecast.LongOnly = s * ann
+		c := make([]float64, n)
+		op.mul(c, bench)
+		w, sr = op.simplexQP(c, support)
+		if !sr.Converged {
+			ed.notConverged++
+		}
+		for i := range w {
+			w[i] -= bench[i]
+		}
+		ed.trk, ed.trkZ, s = measure(w)
+		ed.forecast.Tracking = s * ann
+		ed.randLong = make([][]float64, len(randLong))
+		ed.randActive = make([][]float64, len(randActive))
+		for j := range randLong {
+			_, ed.randLong[j], _ = measure(randLong[j])
+			_, ed.randActive[j], _ = measure(randActive[j])
+		}
+		if fundActive != nil {
+			_, ed.fundZ, _ = measure(fundActive)
+		}
+		ed.forecast.FrobeniusLoss, ed.forecast.MVLoss = math.NaN(), math.NaN()
+		if target != nil {
+			est, inv := denseAndInverse(m)
+			ed.forecast.FrobeniusLoss = frobeniusLoss(est, target)
+			if inv != nil {
+				ed.forecast.MVLoss = mvLoss(inv, target, targetInvTrace)
+			}
+			if e == 0 {
+				ed.sampleFrob = frobeniusLoss(sampleCov, target)
+				ed.sampleMV = math.NaN()
+				if _, sinv := denseAndInverse(&riskmodel.Model{Dense: sampleCov}); sinv != nil {
+					ed.sampleMV = mvLoss(sinv, target, targetInvTrace)
+				}
+			}
+		}
+		res.est = append(res.est, ed)
+		res.period.Forecasts = append(res.period.Forecasts, ed.forecast)
+	}
+	return res, nil
+}
+
+// weights aligns holdings with the columns cols of the panel, renormalized to
+// sum to 1 over them; nil for no holdings or a zero sum.
+func (ev *evaluator) weights(h []riskmodel.Holding, cols []int) []float64 {
+	if h == nil {
+		return nil
+	}
+	pos := make(map[int]int, len(cols))
+	for i, j := range cols {
+		pos[j] = i
+	}
+	w := make([]float64, len(cols))
+	for _, x := range h {
+		j, _ := ev.p.Column(x.Asset)
+		if i, ok := pos[j]; ok {
+			w[i] += x.Weight
+		}
+	}
+	s := evalSum(w)
+	if s == 0 {
+		return nil
+	}
+	for i := range w {
+		w[i] /= s
+	}
+	return w
+}
+
+// portfolioReturns returns the returns x·w of each row of x.
+func portfolioReturns(x *mat.Dense, w []float64) []float64 {
+	t, _ := x.Dims()
+	out := make([]float64, t)
+	for d := range out {
+		out[d] = evalDot(x.RawRowView(d), w)
+	}
+	return out
+}
+
+func nanSeries(k int) []float64 {
+	s := make([]float64, k)
+	for i := range s {
+		s[i] = math.NaN()
+	}
+	return s
+}
+
+// subSym returns the submatrix of s on the given indexes.
+func subSym(s *mat.SymDense, idx []int) *mat.SymDense {
+	out := mat.NewSymDense(len(idx), nil)
+	raw, dst := s.RawSymmetric(), out.RawSymmetric()
+	for a, i := range idx {
+		for b := a; b < len(idx); b++ {
+			r, c := i, idx[b]
+			if r > c {
+				r, c = c, i
+			}
+			dst.Data[a*dst.Stride+b] = raw.Data[r*raw.Stride+c]
+		}
+	}
+	return out
+}
+
+// restrictModel returns m on the given assets, a subset of its own, in that
+// order; m itself when they are its assets already.
+func restrictModel(m *riskmodel.Model, assets []string) *riskmodel.Model {
+	if slices.Equal(m.Assets, assets) {
+		return m
+	}
+	pos := make(map[string]int, len(m.Assets))
+	for i, a := range m.Assets {
+		pos[a] = i
+	}
+	idx := make([]int, len(assets))
+	for i, a := range assets {
+		idx[i] = pos[a]
+	}
+	r := *m
+	r.Assets = assets
+	if m.Factor != nil {
+		r.Factor = m.Factor.Submodel(idx)
+	} else {
+		r.Dense = subSym(m.Dense, idx)
+	}
+	return &r
+}
+
+// invTrace returns tr(Σ⁻¹), NaN if Σ is not positive definite.
+func invTrace(s *mat.SymDense) float64 {
+	var chol mat.Cholesky
+	if !chol.Factorize(s) {
+		return math.NaN()
+	}
+	var inv mat.SymDense
+	if err := chol.InverseTo(&inv); err != nil {
+		return math.NaN()
+	}
+	var tr float64
+	for i := 0; i < inv.SymmetricDim(); i++ {
+		tr += inv.At(i, i)
+	}
+	return tr
+}
+
+// denseAndInverse returns the model's covariance as a dense matrix and its
+// inverse (nil when it is not positive definite). Cost O(N³).
+func denseAndInverse(m *riskmodel.Model) (*mat.SymDense, *mat.SymDense) {
+	if f := m.Factor; f != nil {
+		return f.CovarianceTo(nil), f.InverseTo(nil)
+	}
+	var chol mat.Cholesky
+	if !chol.Factorize(m.Dense) {
+		return m.Dense, nil
+	}
+	inv := mat.NewSymDense(m.Dense.SymmetricDim(), nil)
+	if err := chol.InverseTo(inv); err != nil {
+		return m.Dense, nil
+	}
+	return m.Dense, inv
+}

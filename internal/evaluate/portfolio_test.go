@@ -1,0 +1,218 @@
+package evaluate
+
+import (
+	"math"
+	"math/rand/v2"
+	"testing"
+
+	"github.com/stretchr/testify/require"
+	"gonum.org/v1/gonum/mat"
+
+	"github.com/riskmodel/riskmodel/factor"
+)
+
+// randomSPD returns a positive definite n×n matrix A·Aᵀ/n + δI.
+func randomSPD(rs *rand.Rand, n int, delta float64) *mat.SymDense {
+	a := mat.NewDense(n, n, nil)
+	for i := 0; i < n; i++ {
+		for j := 0; j < n; j++ {
+			a.Set(i, j, rs.NormFloat64())
+		}
+	}
+	s := mat.NewSymDense(n, nil)
+	s.SymOuterK(1/float64(n), a)
+	for i := 0; i < n; i++ {
+		s.SetSym(i, i, s.At(i, i)+delta)
+	}
+	return s
+}
+
+// exactSimplexQP solves min ½wᵀΣw − cᵀw on the simplex by enumerating every
+// support: on a support S the KKT conditions (Boyd & Vandenberghe 2004,
+// Convex Optimization, §5.5.3) are Σ_SS w_S − c_S = ν1, 1ᵀw_S = 1, and
+// the solution is the feasible one (w_S ≥ 0) with the least objective.
+func exactSimplexQP(s *mat.SymDense, c []float64) ([]float64, float64) {
+	n := s.SymmetricDim()
+	best, bestF := []float64(nil), math.Inf(1)
+	for mask := 1; mask < 1<<n; mask++ {
+		var idx []int
+		for i := 0; i < n; i++ {
+			if mask&(1<<i) != 0 {
+				idx = append(idx, i)
+			}
+		}
+		m := len(idx)
+		k := mat.NewDense(m+1, m+1, nil)
+		rhs := mat.NewVecDense(m+1, nil)
+		for a, i := range idx {
+			for b, j := range idx {
+				k.Set(a, b, s.At(i, j))
+			}
+			k.Set(a, m, -1)
+			k.Set(m, a, 1)
+			rhs.SetVec(a, c[i])
+		}
+		rhs.SetVec(m, 1)
+		var sol mat.VecDense
+		if err := sol.SolveVec(k, rhs); err != nil {
+			continue
+		}
+		w := make([]float64, n)
+		ok := true
+		for a, i := range idx {
+			w[i] = sol.AtVec(a)
+			if w[i] < -1e-12 {
+				ok = false
+			}
+		}
+		if !ok {
+			continue
+		}
+		x := mat.NewVecDense(n, w)
+		f := 0.5*mat.Inner(x, s, x) - mat.Dot(x, mat.NewVecDense(n, c))
+		if f < bestF {
+			best, bestF = w, f
+		}
+	}
+	return best, bestF
+}
+
+func TestSimplexQPConverges(t *testing.T) {
+	rs := rand.New(rand.NewPCG(7, 1))
+	for trial := 0; trial < 20; trial++ {
+		n := 2 + trial%6
+		s := randomSPD(rs, n, 0.05)
+		c := make([]float64, n)
+		if trial%2 == 1 {
+			for i := range c {
+				c[i] = 0.5 * rs.NormFloat64()
+			}
+		}
+		op := newCovOp(s)
+		w, res := op.simplexQP(c, nil)
+		require.True(t, res.Converged, "trial %d: %+v", trial, res)
+		want, fstar := exactSimplexQP(s, c)
+		require.NotNil(t, want)
+		x := mat.NewVecDense(n, w)
+		f := 0.5*mat.Inner(x, s, x) - mat.Dot(x, mat.NewVecDense(n, c))
+		require.LessOrEqual(t, f-fstar, res.Gap+1e-14, "trial %d: the gap bounds the excess objective", trial)
+		require.InDelta(t, 0, f-fstar, 1e-6*mat.Inner(x, s, x), "trial %d", trial)
+		require.InDeltaSlice(t, want, w, 2e-3, "trial %d", trial)
+		require.InDelta(t, 1, evalSum(w), 1e-12)
+		for _, v := range w {
+			require.GreaterOrEqual(t, v, 0.0)
+		}
+	}
+}
+
+// On a diagonal covariance the long-only and unconstrained minimum-variance
+// portfolios agree: wᵢ ∝ 1/σᵢ² (the closed form of Σ⁻¹1/(1ᵀΣ⁻¹1)). The
+// long-only tracking portfolio of a benchmark it may fully hold is the
+// benchmark itself; restricted to some names, it holds only those.
+func TestMinVariancePortfolios(t *testing.T) {
+	s := mat.NewSymDense(4, []float64{1, 0, 0, 0, 0, 2, 0, 0, 0, 0, 4, 0, 0, 0, 0, 8})
+	op := newCovOp(s)
+	want := []float64{8.0 / 15, 4.0 / 15, 2.0 / 15, 1.0 / 15}
+	require.InDeltaSlice(t, want, op.minVariance(), 1e-14)
+	w, res := op.simplexQP(nil, nil)
+	require.True(t, res.Converged)
+	require.InDeltaSlice(t, want, w, 1e-5)
+
+	rs := rand.New(rand.NewPCG(2, 2))
+	full := randomSPD(rs, 6, 0.1)
+	fop := newCovOp(full)
+	b := []float64{0.3, 0.25, 0.2, 0.15, 0.07, 0.03}
+	c := make([]float64, 6)
+	fop.mul(c, b)
+	w, res = fop.simplexQP(c, nil)
+	require.True(t, res.Converged)
+	require.InDeltaSlice(t, b, w, 1e-4)
+	w, res = fop.simplexQP(c, largestNames(b, 3))
+	require.True(t, res.Converged)
+	require.Equal(t, []int{0, 1, 2}, largestNames(b, 3))
+	for i := 3; i < 6; i++ {
+		require.Zero(t, w[i])
+	}
+	require.InDelta(t, 1, evalSum(w), 1e-12)
+}
+
+// The factor form and the dense form of the same covariance give the same
+// portfolios (Woodbury solve against Cholesky).
+func TestMinVarianceFactorMatchesDense(t *testing.T) {
+	rs := rand.New(rand.NewPCG(3, 3))
+	n, k := 30, 3
+	b := mat.NewDense(n, k, nil)
+	for i := 0; i < n; i++ {
+		for j := 0; j < k; j++ {
+			b.Set(i, j, rs.NormFloat64())
+		}
+	}
+	f := mat.NewSymDense(k, []float64{1, 0.2, 0, 0.2, 0.5, 0.1, 0, 0.1, 0.3})
+	d := make([]float64, n)
+	for i := range d {
+		d[i] = 0.2 + rs.Float64()
+	}
+	fm, err := factor.NewModel(b, f, d, factor.Info{})
+	require.NoError(t, err)
+	fop, dop := newCovOp(fm), newCovOp(fm.CovarianceTo(nil))
+	require.InDeltaSlice(t, dop.minVariance(), fop.minVariance(), 1e-10)
+	wf, _ := fop.simplexQP(nil, nil)
+	wd, _ := dop.simplexQP(nil, nil)
+	require.InDeltaSlice(t, wd, wf, 1e-6)
+	require.InDelta(t, dop.lmax, fop.lmax, 1e-6*dop.lmax)
+}
+
+// A singular dense forecast (fewer dates than assets) gets the documented
+// ridge and is flagged.
+func TestMinVarianceSingular(t *testing.T) {
+	s := mat.NewSymDense(3, []float64{1, 1, 1, 1, 1, 1, 1, 1, 1})
+	op := newCovOp(s)
+	require.True(t, op.ridged)
+	w := op.minVariance()
+	require.InDeltaSlice(t, []float64{1.0 / 3, 1.0 / 3, 1.0 / 3}, w, 1e-6)
+	require.False(t, newCovOp(mat.NewSymDense(2, []float64{1, 0, 0, 1})).ridged)
+}
+
+func TestProjectSimplex(t *testing.T) {
+	for _, c := range []struct {
+		name    string
+		z, want []float64
+		tol     float64
+	}{
+		{"already on it", []float64{0.2, 0.3, 0.5}, []float64{0.2, 0.3, 0.5}, 1e-15},
+		{"equal", []float64{0.5, 0.5, 0.5}, []float64{1.0 / 3, 1.0 / 3, 1.0 / 3}, 1e-15},
+		{"one dominant", []float64{2, 0, 0}, []float64{1, 0, 0}, 0},
+		{"clip one", []float64{0.8, 0.6, -1}, []float64{0.6, 0.4, 0}, 1e-15},
+		{"one asset", []float64{-3}, []float64{1}, 0},
+	} {
+		t.Run(c.name, func(t *testing.T) {
+			z := append([]float64(nil), c.z...)
+			projectSimplex(z, make([]float64, len(z)))
+			require.InDeltaSlice(t, c.want, z, c.tol)
+		})
+	}
+}
+
+func TestRandomPortfolios(t *testing.T) {
+	rs := rand.New(rand.NewPCG(5, 5))
+	for _, n := range []int{1, 3, 80} {
+		w := randomLongOnly(rs, n)
+		require.InDelta(t, 1, evalSum(w), 1e-12)
+		held := 0
+		for _, v := range w {
+			require.GreaterOrEqual(t, v, 0.0)
+			if v > 0 {
+				held++
+			}
+		}
+		require.GreaterOrEqual(t, held, min(randomMinNames, n))
+		require.LessOrEqual(t, held, min(randomMaxNames, n))
+	}
+	b := []float64{0.5, 0.3, 0.2}
+	a := randomActive(rs, b)
+	require.InDelta(t, 0, evalSum(a), 1e-12)
+	// Same seed, same draws.
+	x := randomLongOnly(rand.New(rand.NewPCG(9, 9)), 40)
+	y := randomLongOnly(rand.New(rand.NewPCG(9, 9)), 40)
+	require.Equal(t, x, y)
+}

@@ -1,0 +1,191 @@
+package evaluate
+
+import (
+	"math"
+
+	"github.com/riskmodel/riskmodel"
+
+	"gonum.org/v1/gonum/mat"
+	"gonum.org/v1/gonum/stat/distuv"
+
+	"github.com/riskmodel/riskmodel/internal/dense"
+)
+
+// Statistics of the evaluation: intervals with a known distribution, the bias
+// statistic over a series of standardized returns, and the loss functions
+// against a known true covariance.
+
+// Level is the confidence level of every interval of an Result.
+const Level = 0.95
+
+// Interval is an estimate with a confidence interval at Level.
+type Interval struct {
+	Value, Lower, Upper float64
+}
+
+// volInterval returns the sample standard deviation of x (divisor T − 1,
+// mean removed) with its chi-square interval, which is exact for normal
+// returns:
+//
+//	(T − 1)s²/σ² ~ χ²(T − 1)  ⇒  σ ∈ [ s·√((T−1)/χ²₀.₉₇₅),  s·√((T−1)/χ²₀.₀₂₅) ]
+//
+// Fat tails make the true coverage lower; the interval is a guide to the
+// noise, not a test. Fewer than 2 values give NaN.
+//
+// References: Casella, G. & Berger, R.L. (2002), Statistical Inference, 2nd
+// ed., Duxbury, Example 9.2.10 (interval for a normal variance).
+func volInterval(x []float64) Interval {
+	t := len(x)
+	if t < 2 {
+		return Interval{math.NaN(), math.NaN(), math.NaN()}
+	}
+	s := evalStd(x)
+	chi := distuv.ChiSquared{K: float64(t - 1)}
+	a := (1 - Level) / 2
+	return Interval{
+		Value: s,
+		Lower: s * math.Sqrt(float64(t-1)/chi.Quantile(1-a)),
+		Upper: s * math.Sqrt(float64(t-1)/chi.Quantile(a)),
+	}
+}
+
+// shareInterval returns the share k/n with its Wilson score interval
+//
+//	(p̂ + z²/2n ± z·√(p̂(1−p̂)/n + z²/4n²)) / (1 + z²/n),   z = Φ⁻¹(0.975).
+//
+// n = 0 gives NaN.
+//
+// References: Wilson, E.B. (1927), "Probable inference, the law of
+// succession, and statistical inference", J. American Statistical
+// Association 22(158):209–212.
+func shareInterval(k, n int) Interval {
+	if n == 0 {
+		return Interval{math.NaN(), math.NaN(), math.NaN()}
+	}
+	z := distuv.UnitNormal.Quantile(1 - (1-Level)/2)
+	nf := float64(n)
+	p := float64(k) / nf
+	den := 1 + z*z/nf
+	mid := (p + z*z/(2*nf)) / den
+	half := z * math.Sqrt(p*(1-p)/nf+z*z/(4*nf*nf)) / den
+	return Interval{Value: p, Lower: math.Max(0, mid-half), Upper: math.Min(1, mid+half)}
+}
+
+// biasOf returns the bias statistic of a series of standardized returns
+// z_t = r_t / σ̂_t: their standard deviation (divisor T − 1, mean removed, as
+// riskmodel.BiasStatistic), with the band 1 ± √(2/T) (common practice, no source).
+func biasOf(z []float64) riskmodel.Bias {
+	t := len(z)
+	b := riskmodel.Bias{Observations: t, Value: math.NaN(), Lower: math.NaN(), Upper: math.NaN()}
+	if t < 2 {
+		return b
+	}
+	b.Value = evalStd(z)
+	half := math.Sqrt(2 / float64(t))
+	b.Lower, b.Upper = 1-half, 1+half
+	b.Inside = b.Value >= b.Lower && b.Value <= b.Upper
+	return b
+}
+
+func evalStd(x []float64) float64 {
+	var mean float64
+	for _, v := range x {
+		mean += v
+	}
+	mean /= float64(len(x))
+	var ss float64
+	for _, v := range x {
+		ss += (v - mean) * (v - mean)
+	}
+	return math.Sqrt(ss / float64(len(x)-1))
+}
+
+// frobeniusLoss returns Ledoit & Wolf's (2004) normalized Frobenius loss
+//
+//	L_F(Σ̂, Σ) = ‖Σ̂ − Σ‖² = tr((Σ̂ − Σ)(Σ̂ − Σ)ᵀ) / N
+//
+// (the norm of their Definition 1, divided by the dimension N). Cost O(N²)
+// for a dense forecast, O(N²·K) for a factor model read element by element.
+//
+// References: Ledoit, O. & Wolf, M. (2004), "A well-conditioned estimator for
+// large-dimensional covariance matrices", J. Multivariate Analysis
+// 88(2):365–411, Section 2 (the norm) and Section 3.1 (the loss).
+func frobeniusLoss(est *mat.SymDense, truth *mat.SymDense) float64 {
+	n := truth.SymmetricDim()
+	e, t := est.RawSymmetric(), truth.RawSymmetric()
+	var s float64
+	for i := 0; i < n; i++ {
+		er, tr := e.Data[i*e.Stride:i*e.Stride+n], t.Data[i*t.Stride:i*t.Stride+n]
+		d := er[i] - tr[i]
+		s += d * d
+		for j := i + 1; j < n; j++ {
+			d := er[j] - tr[j]
+			s += 2 * d * d
+		}
+	}
+	return s / float64(n)
+}
+
+// mvLoss returns the minimum-variance loss of Ledoit & Wolf (2017),
+//
+//	L_MV(Σ̂, Σ) = [tr(Σ̂⁻¹ Σ Σ̂⁻¹)/N] / [tr(Σ̂⁻¹)/N]²  −  1 / [tr(Σ⁻¹)/N],
+//
+// the excess true variance of a minimum-variance portfolio built from Σ̂
+// over the one built from Σ, averaged over the linear constraint, so it is
+// zero when Σ̂ is proportional to Σ and positive otherwise. inv is Σ̂⁻¹ and
+// trueInvTrace is tr(Σ⁻¹). Cost O(N³) (one N×N product).
+//
+// References: Ledoit, O. & Wolf, M. (2017), "Nonlinear shrinkage of the
+// covariance matrix for portfolio selection: Markowitz meets Goldilocks",
+// Review of Financial Studies 30(12):4349–4388, Section 3 (the loss; the
+// equation number is from memory, not verified: their Definition 1).
+func mvLoss(inv, truth *mat.SymDense, trueInvTrace float64) float64 {
+	n := truth.SymmetricDim()
+	// Full dense copies, which the kernel reads in place.
+	iv, tv := evalFull(inv), evalFull(truth)
+	m := dense.Mul(nil, tv, iv) // ΣΣ̂⁻¹
+	var num, tr float64
+	for i := 0; i < n; i++ {
+		ir := iv.RawRowView(i)
+		tr += ir[i]
+		// Σ_j (Σ̂⁻¹)_ij (ΣΣ̂⁻¹)_ji summed over i is tr(Σ̂⁻¹ΣΣ̂⁻¹); Σ̂⁻¹ is
+		// symmetric, so (Σ̂⁻¹)_ij = (Σ̂⁻¹)_ji and row i of m pairs with row
+		// i of Σ̂⁻¹ after transposing m: use column i of m.
+		for j, v := range ir {
+			num += v * m.At(j, i)
+		}
+	}
+	nf := float64(n)
+	return (num/nf)/((tr/nf)*(tr/nf)) - 1/(trueInvTrace/nf)
+}
+
+// evalFull copies a symmetric matrix into a general dense one, both
+// triangles filled.
+func evalFull(s *mat.SymDense) *mat.Dense {
+	n := s.SymmetricDim()
+	raw := s.RawSymmetric()
+	d := mat.NewDense(n, n, nil)
+	for i := 0; i < n; i++ {
+		row := raw.Data[i*raw.Stride : i*raw.Stride+n]
+		for j := i; j < n; j++ {
+			d.Set(i, j, row[j])
+			d.Set(j, i, row[j])
+		}
+	}
+	return d
+}
+
+// prial returns Ledoit & Wolf's percentage relative improvement in average
+// loss of an estimator over the sample covariance S,
+//
+//	PRIAL = 100 · (E[L(S)] − E[L(Σ̂)]) / E[L(S)]   (%),
+//
+// with the expectations replaced by averages over the rebalance dates: 0 for
+// the sample covariance itself, 100 for a perfect forecast, negative for an
+// estimator worse than S.
+//
+// References: Ledoit & Wolf (2004), J. Multivariate Analysis 88(2), Section
+// 5.2 (the definition of the PRIAL, section number from memory).
+func prial(lossSample, loss float64) float64 {
+	return 100 * (lossSample - loss) / lossSample
+}

@@ -1,0 +1,102 @@
+package evaluate
+
+import (
+	"encoding/json"
+	"math"
+	"os"
+	"path/filepath"
+	"testing"
+
+	"github.com/riskmodel/riskmodel"
+
+	"github.com/stretchr/testify/require"
+	"gonum.org/v1/gonum/mat"
+)
+
+// The intervals against scipy 1.10.1 and statsmodels 0.13.5: the fixture
+// testdata/evaluate/intervals.json was written by intervals.py beside it with
+// scipy.stats.chi2.ppf and
+// statsmodels.stats.proportion.proportion_confint(k, n, alpha=0.05, method="wilson").
+func TestEvaluateIntervalsReference(t *testing.T) {
+	raw, err := os.ReadFile(filepath.Join("..", "..", "testdata", "evaluate", "intervals.json"))
+	require.NoError(t, err)
+	var fx struct {
+		Volatility []struct {
+			X                 []float64
+			Std, Lower, Upper float64
+		}
+		Share []struct {
+			K, N         int
+			Lower, Upper float64
+		}
+	}
+	require.NoError(t, json.Unmarshal(raw, &fx))
+	require.NotEmpty(t, fx.Volatility)
+	require.NotEmpty(t, fx.Share)
+	const tol = 1e-9
+	for _, c := range fx.Volatility {
+		iv := volInterval(c.X)
+		require.InDelta(t, c.Std, iv.Value, tol*c.Std, "std of %d values", len(c.X))
+		require.InDelta(t, c.Lower, iv.Lower, tol*c.Std, "lower, %d values", len(c.X))
+		require.InDelta(t, c.Upper, iv.Upper, tol*c.Std, "upper, %d values", len(c.X))
+	}
+	for _, c := range fx.Share {
+		iv := shareInterval(c.K, c.N)
+		require.InDelta(t, float64(c.K)/float64(c.N), iv.Value, 1e-15)
+		require.InDelta(t, c.Lower, iv.Lower, 1e-12, "%d of %d", c.K, c.N)
+		require.InDelta(t, c.Upper, iv.Upper, 1e-12, "%d of %d", c.K, c.N)
+	}
+	require.True(t, math.IsNaN(shareInterval(0, 0).Value))
+	require.True(t, math.IsNaN(volInterval([]float64{1}).Value))
+}
+
+// The band of the bias statistic is 1 ± √(2/T) (common practice, no source):
+// for T = 200, 1 ± 0.1.
+func TestEvaluateBiasOfBand(t *testing.T) {
+	z := make([]float64, 200)
+	for i := range z {
+		z[i] = 1.1 * math.Sin(float64(i)) // any series; the band depends on T only
+	}
+	b := biasOf(z)
+	require.Equal(t, 200, b.Observations)
+	require.InDelta(t, 0.9, b.Lower, 1e-15)
+	require.InDelta(t, 1.1, b.Upper, 1e-15)
+	require.InDelta(t, evalStd(z), b.Value, 0)
+	require.Equal(t, b.Value >= 0.9 && b.Value <= 1.1, b.Inside)
+}
+
+// Properties of the losses, from their definitions (Ledoit & Wolf 2004,
+// J. Multivariate Analysis 88(2), Section 2; Ledoit & Wolf 2017, RFS
+// 30(12), Section 3): the Frobenius loss is ‖Σ̂ − Σ‖²_F/N, zero at Σ̂ = Σ;
+// the minimum-variance loss is zero for any multiple of Σ (it is scale free)
+// and positive otherwise; the PRIAL of the sample against itself is 0 and of
+// a perfect forecast 100.
+func TestEvaluateLosses(t *testing.T) {
+	truth := mat.NewSymDense(3, []float64{4, 1, 0.5, 1, 3, 0.2, 0.5, 0.2, 2})
+	est := mat.NewSymDense(3, []float64{3, 0.5, 0, 0.5, 3, 0, 0, 0, 3})
+	var d mat.Dense
+	d.Sub(est, truth)
+	want := mat.Norm(&d, 2) * mat.Norm(&d, 2) / 3
+	require.InDelta(t, want, frobeniusLoss(est, truth), 1e-12)
+	require.Zero(t, frobeniusLoss(truth, truth))
+
+	_, tinv := denseAndInverse(&riskmodel.Model{Dense: truth})
+	require.NotNil(t, tinv)
+	tr := invTrace(truth)
+	require.InDelta(t, 0, mvLoss(tinv, truth, tr), 1e-12)
+	var scaled mat.SymDense
+	scaled.ScaleSym(2.5, truth)
+	_, sinv := denseAndInverse(&riskmodel.Model{Dense: &scaled})
+	require.InDelta(t, 0, mvLoss(sinv, truth, tr), 1e-12)
+	_, einv := denseAndInverse(&riskmodel.Model{Dense: est})
+	require.Greater(t, mvLoss(einv, truth, tr), 1e-3)
+
+	require.Zero(t, prial(2, 2))
+	require.Equal(t, 100.0, prial(2, 0))
+	require.Negative(t, prial(2, 3))
+
+	singular := mat.NewSymDense(2, []float64{1, 1, 1, 1})
+	_, inv := denseAndInverse(&riskmodel.Model{Dense: singular})
+	require.Nil(t, inv)
+	require.True(t, math.IsNaN(invTrace(singular)))
+}
