@@ -1,0 +1,6 @@
+//go:build openblas
+
+package demo
+
+// bitExact is false under -tags openblas: see TestFilesAreCurrent.
+const bitExact = false
