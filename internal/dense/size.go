@@ -44,3 +44,21 @@ func SizeDense(dst *mat.Dense, r, c int) *mat.Dense {
 	}
 	return dst
 }
+
+// SizeVec is SizeSym for a slice of length n: a nil or zero-length dst is
+// allocated (reusing its capacity, zeroed, when that suffices, as gonum
+// reuses an empty matrix's storage), one of length n is returned as it is,
+// one of another length panics with mat.ErrShape.
+func SizeVec[T any](dst []T, n int) []T {
+	switch {
+	case len(dst) == n:
+		return dst
+	case len(dst) != 0:
+		panic(mat.ErrShape)
+	case cap(dst) >= n:
+		dst = dst[:n]
+		clear(dst)
+		return dst
+	}
+	return make([]T, n)
+}

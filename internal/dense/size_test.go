@@ -24,3 +24,30 @@ func TestSize(t *testing.T) {
 	require.Same(t, d, SizeDense(d, 2, 2))
 	require.PanicsWithValue(t, mat.ErrShape, func() { SizeDense(d, 2, 3) })
 }
+
+func TestSizeVec(t *testing.T) {
+	require.Len(t, SizeVec[float64](nil, 3), 3)
+	require.Len(t, SizeVec([]float64{}, 2), 2)
+	buf := make([]float64, 0, 8)
+	got := SizeVec(buf[:0], 5)
+	require.Equal(t, []float64{0, 0, 0, 0, 0}, got)
+	require.Same(t, &buf[:1][0], &got[0], "an empty dst's capacity is reused")
+	got[0] = 7
+	require.Equal(t, []float64{0, 0}, SizeVec(buf[:0], 2), "a reused dst is zeroed")
+	v := []float64{1, 2}
+	require.Same(t, &v[0], &SizeVec(v, 2)[0])
+	require.Equal(t, []float64{1, 2}, v, "a dst of the right length is not cleared")
+	require.PanicsWithValue(t, mat.ErrShape, func() { SizeVec(v, 3) })
+	require.PanicsWithValue(t, mat.ErrShape, func() { SizeVec(v, 0) })
+	require.Len(t, SizeVec([]string(nil), 4), 4)
+}
+
+func TestParallel(t *testing.T) {
+	for _, n := range []int{0, 1, 7, 100} {
+		seen := make([]int, n)
+		Parallel(n, func(i int) { seen[i]++ })
+		for i, c := range seen {
+			require.Equal(t, 1, c, "f(%d) runs exactly once", i)
+		}
+	}
+}
