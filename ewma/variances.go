@@ -2,10 +2,10 @@ package ewma
 
 import (
 	"math"
-	"runtime"
-	"sync"
 
 	"gonum.org/v1/gonum/mat"
+
+	"github.com/riskmodel/riskmodel/internal/dense"
 )
 
 // varianceBlock is the number of columns one worker of variancesDense
@@ -92,22 +92,10 @@ func variancesDense(dst []float64, x *mat.Dense, w []float64, o Options) ([]floa
 			}
 		}
 	}
-	var wg sync.WaitGroup
-	blocks := make(chan int)
-	for range min(runtime.GOMAXPROCS(0), (n+varianceBlock-1)/varianceBlock) {
-		wg.Add(1)
-		go func() {
-			defer wg.Done()
-			for j0 := range blocks {
-				column(j0, min(j0+varianceBlock, n))
-			}
-		}()
-	}
-	for j0 := 0; j0 < n; j0 += varianceBlock {
-		blocks <- j0
-	}
-	close(blocks)
-	wg.Wait()
+	dense.Parallel((n+varianceBlock-1)/varianceBlock, func(b int) {
+		j0 := b * varianceBlock
+		column(j0, min(j0+varianceBlock, n))
+	})
 
 	// The general path stops at the first problem in row-major order, a
 	// row's weight before its values.

@@ -3,10 +3,7 @@ package factor
 import (
 	"fmt"
 	"math"
-	"runtime"
 	"slices"
-	"sync"
-	"sync/atomic"
 
 	"gonum.org/v1/gonum/mat"
 
@@ -208,7 +205,7 @@ func prepare(x mat.Matrix, assumeCentered bool) (*data, error) {
 		seen    []bool // seen[i]: date i has an observation in the block
 	}
 	scans := make([]scan, blocks)
-	eachBlock(blocks, func(b int) {
+	dense.Parallel(blocks, func(b int) {
 		lo, hi := b*width, min((b+1)*width, n)
 		sc := scan{inf: -1, seen: make([]bool, t)}
 		for i := 0; i < t; i++ {
@@ -269,7 +266,7 @@ func prepare(x mat.Matrix, assumeCentered bool) (*data, error) {
 			sum[j] = 0
 		}
 	}
-	eachBlock(blocks, func(b int) {
+	dense.Parallel(blocks, func(b int) {
 		lo, hi := b*width, min((b+1)*width, n)
 		for i := 0; i < t; i++ {
 			row := src[i*stride : i*stride+hi]
@@ -282,30 +279,6 @@ func prepare(x mat.Matrix, assumeCentered bool) (*data, error) {
 		}
 	})
 	return &data{z: z, missing: missing}, nil
-}
-
-// eachBlock calls f(0), …, f(n-1) on up to GOMAXPROCS goroutines; f must
-// not depend on which goroutine runs it.
-func eachBlock(n int, f func(int)) {
-	workers := min(runtime.GOMAXPROCS(0), n)
-	if workers <= 1 {
-		for i := 0; i < n; i++ {
-			f(i)
-		}
-		return
-	}
-	var next atomic.Int64
-	var wg sync.WaitGroup
-	for w := 0; w < workers; w++ {
-		wg.Add(1)
-		go func() {
-			defer wg.Done()
-			for i := int(next.Add(1) - 1); i < n; i = int(next.Add(1) - 1) {
-				f(i)
-			}
-		}()
-	}
-	wg.Wait()
 }
 
 func (d *data) sumSquares() float64 {
