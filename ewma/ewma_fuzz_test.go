@@ -127,12 +127,12 @@ func FuzzEstimators(f *testing.F) {
 		var err error
 		switch which {
 		case 0:
-			_, err = CovarianceTo(&dst, x, w, opts)
+			_, _, err = Covariance(&dst, x, w, opts)
 		case 1:
-			_, err = CorrelationTo(&dst, x, w, opts)
+			_, _, err = Correlation(&dst, x, w, opts)
 		case 2:
 			var v []float64
-			v, err = VariancesTo(nil, x, w, opts)
+			v, err = Variances(nil, x, w, opts)
 			if err == nil {
 				if len(v) != n {
 					t.Fatalf("%d variances for %d columns", len(v), n)
@@ -144,13 +144,13 @@ func FuzzEstimators(f *testing.F) {
 				}
 			}
 		case 3:
-			_, err = NeweyWestTo(&dst, x, w, lags, opts)
+			_, _, err = NeweyWest(&dst, x, w, lags, opts)
 		case 4:
 			s := Settings{VolHalfLife: float64(b.next() % 30), CorrHalfLife: float64(b.next() % 30), NeweyWestLags: lags}
 			if opts != nil {
 				s.Options = *opts
 			}
-			_, err = Estimate(&dst, x, s)
+			_, _, err = Estimate(&dst, x, s)
 		}
 		if err != nil {
 			checkErr(t, err)
@@ -190,7 +190,7 @@ func FuzzRecursive(f *testing.F) {
 		}
 		var dst mat.SymDense
 		if !s.VariancesOnly {
-			if _, err := r.CovarianceTo(&dst); err != nil {
+			if _, _, err := r.CovarianceTo(&dst); err != nil {
 				checkErr(t, err)
 			} else {
 				checkCov(t, &dst, squareScale(x))

@@ -12,7 +12,7 @@ import (
 // handles at a time: a block of a row fits in a few cache lines per row.
 const varianceBlock = 256
 
-// variancesDense is VariancesTo's path for a *mat.Dense without
+// variancesDense is Variances's path for a *mat.Dense without
 // CompleteCase. It reads x in place, one block of columns per worker, instead
 // of copying it as the general path does. Per column it performs the same
 // additions in the same order as the general path, so the results are
@@ -125,9 +125,6 @@ func variancesDense(dst []float64, x *mat.Dense, w []float64, o Options) ([]floa
 // finishVariances turns the weighted sums of squares into variances, with
 // the effective-observation check and the bias correction of Options.
 func finishVariances(dst, ss, tot, tot2 []float64, o Options) ([]float64, error) {
-	if dst == nil {
-		dst = make([]float64, len(ss))
-	}
 	for j := range dst {
 		eff := tot[j] * tot[j] / tot2[j]
 		if o.MinEffectiveObs > 0 && eff < o.MinEffectiveObs {

@@ -380,7 +380,7 @@ func (p *exposureSpec) model(b *mat.Dense, reg *Regression, method, reason strin
 	_, k := reg.FactorReturns.Dims()
 	ret := reg.FactorReturns.Slice(p.first, p.t, 0, k)
 	f := &mat.SymDense{}
-	if _, err := ewma.Estimate(f, ret, p.s.Covariance); err != nil {
+	if _, _, err := ewma.Estimate(f, ret, p.s.Covariance); err != nil {
 		return nil, fmt.Errorf("factor: factor covariance: %w", err)
 	}
 	resid := reg.SpecificReturns.Slice(p.first, p.t, 0, p.n).(*mat.Dense)

@@ -45,7 +45,7 @@ import (
 // all criteria are reported in Info.Selection (see Selection).
 //
 // Specific variances: d̂_i is the exponentially weighted variance of asset
-// i's residuals around zero (ewma.VariancesTo, half-life SpecificHalfLife,
+// i's residuals around zero (ewma.Variances, half-life SpecificHalfLife,
 // weights renormalized over its observed dates, divisor Σw). It is shrunk
 // toward the plain mean d̄_g of its group,
 //
@@ -164,7 +164,7 @@ func Fit(x mat.Matrix, s Settings) (*Model, error) {
 	var f *mat.SymDense
 	if k > 0 {
 		f = &mat.SymDense{}
-		if _, err := ewma.Estimate(f, ret, r.Covariance); err != nil {
+		if _, _, err := ewma.Estimate(f, ret, r.Covariance); err != nil {
 			return nil, fmt.Errorf("factor: factor covariance: %w", err)
 		}
 	}
