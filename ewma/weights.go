@@ -45,8 +45,7 @@ func HalfLife(lambda float64) float64 {
 //	w_i = λ^(n−1−i) / Σ_k λ^k,   i = 0 … n−1
 //
 // normalised to sum to 1, and writes them to dst. A nil or empty dst is
-// allocated (an empty one's capacity is reused when it suffices); a dst of
-// another length than n panics with mat.ErrShape.
+// allocated; a dst of another length than n panics with mat.ErrShape.
 //
 // Weights returns an error wrapping ErrHalfLife if h ≤ 0 or is not finite,
 // and ErrLength if n < 1. Cost O(n).

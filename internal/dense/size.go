@@ -46,19 +46,15 @@ func SizeDense(dst *mat.Dense, r, c int) *mat.Dense {
 }
 
 // SizeVec is SizeSym for a slice of length n: a nil or zero-length dst is
-// allocated (reusing its capacity, zeroed, when that suffices, as gonum
-// reuses an empty matrix's storage), one of length n is returned as it is,
-// one of another length panics with mat.ErrShape.
+// allocated, one of length n is returned as it is, one of another length
+// panics with mat.ErrShape. The capacity of an empty dst is not reused, so a
+// dst of x[:0] cannot overwrite an input x.
 func SizeVec[T any](dst []T, n int) []T {
 	switch {
 	case len(dst) == n:
 		return dst
 	case len(dst) != 0:
 		panic(mat.ErrShape)
-	case cap(dst) >= n:
-		dst = dst[:n]
-		clear(dst)
-		return dst
 	}
 	return make([]T, n)
 }
