@@ -19,10 +19,17 @@ func SizeSym(dst *mat.SymDense, n int) *mat.SymDense {
 		}
 		return dst
 	}
-	if dst.SymmetricDim() != n {
+	CheckSym(dst, n)
+	return dst
+}
+
+// CheckSym panics with mat.ErrShape unless dst is nil, empty or n×n: the
+// check of SizeSym without the allocation, for a function that must reject a
+// wrong-sized dst before it reads its data.
+func CheckSym(dst *mat.SymDense, n int) {
+	if dst != nil && !dst.IsEmpty() && dst.SymmetricDim() != n {
 		panic(mat.ErrShape)
 	}
-	return dst
 }
 
 // SizeDense is SizeSym for an r×c general matrix.
