@@ -11,12 +11,6 @@ import (
 	"github.com/riskmodel/riskmodel/ewma"
 )
 
-// Method names recorded in Info.Method by FitExposure and FitHybrid.
-const (
-	MethodExposure = "exposure"
-	MethodHybrid   = "hybrid"
-)
-
 // Errors of the exposure-based model, wrapped with the date (row) and the
 // sector, characteristic or asset concerned; test with errors.Is.
 var (

@@ -132,7 +132,7 @@ func FuzzFit(f *testing.F) {
 		s := Settings{
 			K:                int(c % 4),
 			Criterion:        Criterion(b.next() % 4),
-			Method:           Method(c / 4 % 3),
+			Solver:           Solver(c / 4 % 3),
 			Seed:             uint64(b.next()),
 			MaxIter:          int(b.next() % 6),
 			SpecificHalfLife: float64(b.next() % 20),

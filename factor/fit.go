@@ -22,8 +22,8 @@ import (
 // (zero with AssumeCentered).
 //
 // Principal components: the exact eigendecomposition of the smaller Gram
-// matrix (Method Gram; the T×T one when N > T) or the randomized truncated
-// SVD (Randomized) with Oversample extra columns and PowerIters power
+// matrix (SolverGram; the T×T one when N > T) or the randomized truncated
+// SVD (SolverRandomized) with Oversample extra columns and PowerIters power
 // iterations from a Gaussian sketch seeded with Seed. The result is
 // deterministic for a given seed, bit-identical for any GOMAXPROCS.
 //
@@ -115,7 +115,7 @@ func Fit(x mat.Matrix, s Settings) (*Model, error) {
 	if err != nil {
 		return nil, err
 	}
-	info := Info{Method: r.Method.String(), Params: r.params(), Assets: s.Assets}
+	info := Info{Method: r.Solver.String(), Params: r.params(), Assets: s.Assets}
 
 	// First pass on the mean-imputed data: spectrum, selection, K.
 	sketch := min(max(r.K, r.kmax+5), t, n)
@@ -292,7 +292,7 @@ func (d *data) sumSquares() float64 {
 
 // decompose returns the leading r principal components of the current data.
 func (d *data) decompose(s resolved, r, iters int, seed uint64, start *mat.Dense) pcs {
-	if s.Method == Gram {
+	if s.Solver == SolverGram {
 		p, ok := gramSVD(d.z, r, s.Oversample, iters, seed)
 		if !ok {
 			panic("factor: eigendecomposition of the Gram matrix failed")
@@ -342,7 +342,7 @@ func (d *data) impute(s resolved, p pcs, k int) (pcs, Imputation) {
 		scale = math.Sqrt(d.sumSquares())
 		info.Change = math.Sqrt(change) / scale
 		info.Iterations = it
-		if s.Method == Gram && min(t, n) <= gramLimit {
+		if s.Solver == SolverGram && min(t, n) <= gramLimit {
 			p = truncate(d.decompose(s, k, 0, 0, nil), k)
 		} else {
 			// One warm-started subspace step: no oversampling, no extra power iteration.

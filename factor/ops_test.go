@@ -275,9 +275,9 @@ func equalSlices(a, b []float64) bool {
 // GOMAXPROCS 1 and 2, on every route.
 func TestDeterministicAcrossProcs(t *testing.T) {
 	sim := simulate(41, 150, 420, 4)
-	for _, method := range []Method{Gram, Randomized} {
+	for _, method := range []Solver{SolverGram, SolverRandomized} {
 		s := baseSettings()
-		s.Method, s.Seed = method, 99
+		s.Solver, s.Seed = method, 99
 		prev := runtime.GOMAXPROCS(1)
 		one, err := Fit(sim.x, s)
 		runtime.GOMAXPROCS(max(prev, 2))
