@@ -25,7 +25,7 @@ import (
 //
 // A nil or empty dst is allocated. Covariance panics with mat.ErrShape if
 // len(w) ≠ T or dst is neither nil, empty nor N×N. It returns an error wrapping ErrWeight,
-// ErrNonFinite (an Inf in x, or an entry that overflows), ErrAllMissing, ErrTooFew (a column or pair with
+// ErrNonFinite (an Inf in x, or an entry that overflows), ErrAllMissing, ErrTooFewObs (a column or pair with
 // fewer than 2 common observations) or ErrEffectiveObs (a pair below
 // opts.MinEffectiveObs). Cost: one to four O(T·N²) products on all cores
 // through internal/dense, plus O(N³) for the check when data are missing.

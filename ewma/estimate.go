@@ -58,7 +58,7 @@ func Estimate(dst *mat.SymDense, x mat.Matrix, s Settings) (*mat.SymDense, *Repo
 		return dst, nil, err
 	}
 	if t < 1 {
-		return dst, nil, errAt(ErrTooFew, -1, -1, -1, 0)
+		return dst, nil, errAt(ErrTooFewObs, -1, -1, -1, 0)
 	}
 	o := s.Options
 	wv, _ := Weights(nil, t, s.VolHalfLife)

@@ -17,7 +17,7 @@ import (
 // positive semidefinite matrix. The seed corpora run in every `go test`.
 
 var sentinels = []error{ErrHalfLife, ErrDecay, ErrLength, ErrWeight, ErrNonFinite,
-	ErrAllMissing, ErrTooFew, ErrEffectiveObs, ErrZeroVariance, ErrLags, ErrState}
+	ErrAllMissing, ErrTooFewObs, ErrEffectiveObs, ErrZeroVariance, ErrLags, ErrState}
 
 // specials: the top byte codes decode to NaN, ±Inf, 1e150 and 1e−150
 // (fuzzcheck.Bytes.Value); the seed corpora depend on it.

@@ -18,7 +18,7 @@ import (
 // Means panics with mat.ErrShape if len(w) ≠ T or dst is neither nil, empty
 // nor of length N. It returns an error wrapping ErrWeight for a negative or
 // non-finite weight, ErrNonFinite for an Inf, ErrAllMissing for a column with
-// no observation and ErrTooFew for one with a single observation. Cost
+// no observation and ErrTooFewObs for one with a single observation. Cost
 // O(T·N).
 //
 // References: pandas 1.5.3, DataFrame.ewm(halflife=h, adjust=True).mean().
@@ -46,7 +46,7 @@ func Means(dst []float64, x mat.Matrix, w []float64, opts *Options) ([]float64, 
 //
 // Variances panics with mat.ErrShape if len(w) ≠ T or dst is neither nil, empty nor
 // of length N. It returns an error wrapping ErrWeight, ErrNonFinite,
-// ErrAllMissing, ErrTooFew (a column with fewer than 2 observations) or
+// ErrAllMissing, ErrTooFewObs (a column with fewer than 2 observations) or
 // ErrEffectiveObs (below opts.MinEffectiveObs). Cost O(T·N).
 //
 // References: pandas 1.5.3, DataFrame.ewm(halflife=h, adjust=True).var().

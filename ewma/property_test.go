@@ -217,9 +217,9 @@ func TestBadInput(t *testing.T) {
 	}{
 		{name: "Inf value", x: mat.NewDense(3, 2, []float64{0.01, 0, math.Inf(1), 0, 0.02, 0.01}), err: ErrNonFinite},
 		{name: "all-missing column", x: mat.NewDense(3, 2, []float64{0.01, nan, 0.02, nan, 0.03, nan}), err: ErrAllMissing},
-		{name: "one observation", x: mat.NewDense(3, 2, []float64{0.01, 0.01, 0.02, nan, 0.03, nan}), err: ErrTooFew},
-		{name: "pair never together", x: mat.NewDense(4, 2, []float64{0.01, nan, 0.02, nan, nan, 0.01, nan, 0.02}), err: ErrTooFew},
-		{name: "one row", x: mat.NewDense(1, 2, []float64{0.01, 0.02}), err: ErrTooFew},
+		{name: "one observation", x: mat.NewDense(3, 2, []float64{0.01, 0.01, 0.02, nan, 0.03, nan}), err: ErrTooFewObs},
+		{name: "pair never together", x: mat.NewDense(4, 2, []float64{0.01, nan, 0.02, nan, nan, 0.01, nan, 0.02}), err: ErrTooFewObs},
+		{name: "one row", x: mat.NewDense(1, 2, []float64{0.01, 0.02}), err: ErrTooFewObs},
 		{name: "negative weight", x: good, w: []float64{1, -1, 1, 1}, err: ErrWeight},
 		{name: "NaN weight", x: good, w: []float64{1, nan, 1, 1}, err: ErrWeight},
 		{name: "below minimum n_eff", x: good, o: &Options{MinEffectiveObs: 10}, err: ErrEffectiveObs},

@@ -342,7 +342,7 @@ func (r *Recursive) VariancesTo(dst []float64) ([]float64, error) {
 			return dst, errAt(ErrAllMissing, -1, i, -1, 0)
 		}
 		if cnt < 2 {
-			return dst, errAt(ErrTooFew, -1, i, -1, cnt)
+			return dst, errAt(ErrTooFewObs, -1, i, -1, cnt)
 		}
 		eff := wt * wt / w2
 		if r.opts.MinEffectiveObs > 0 && eff < r.opts.MinEffectiveObs {
@@ -378,7 +378,7 @@ func (r *Recursive) ready() error {
 		if c := r.cnt[i*step]; c == 0 {
 			return errAt(ErrAllMissing, -1, i, -1, 0)
 		} else if c < 2 {
-			return errAt(ErrTooFew, -1, i, -1, c)
+			return errAt(ErrTooFewObs, -1, i, -1, c)
 		}
 	}
 	return nil

@@ -159,7 +159,7 @@ func TestRecursiveMisuse(t *testing.T) {
 	require.ErrorIs(t, err, ErrAllMissing)
 	require.NoError(t, r.Update([]float64{0.01, 0.02, 0.03}))
 	_, _, err = r.CovarianceTo(&c)
-	require.ErrorIs(t, err, ErrTooFew)
+	require.ErrorIs(t, err, ErrTooFewObs)
 	v, err := NewRecursive(3, RecursiveSettings{HalfLife: 5, VariancesOnly: true})
 	require.NoError(t, err)
 	require.PanicsWithValue(t, errVariancesOnly, func() { _, _, _ = v.CovarianceTo(&c) })

@@ -116,7 +116,7 @@ func variancesDense(dst []float64, x *mat.Dense, w []float64, o Options) ([]floa
 			return dst, errAt(ErrAllMissing, -1, j, -1, 0)
 		}
 		if c < 2 {
-			return dst, errAt(ErrTooFew, -1, j, -1, float64(c))
+			return dst, errAt(ErrTooFewObs, -1, j, -1, float64(c))
 		}
 	}
 	return finishVariances(dst, ss, tot, tot2, o)

@@ -79,7 +79,7 @@ func TestVariancesPathsAgree(t *testing.T) {
 			for i := 1; i < 6; i++ {
 				x.Set(i, 2, math.NaN())
 			}
-		}, ErrTooFew},
+		}, ErrTooFewObs},
 	} {
 		t.Run(tc.name, func(t *testing.T) {
 			y, v := bad(tc.set)

@@ -185,7 +185,7 @@ func newExposureSpec(x mat.Matrix, s ExposureSettings) (*exposureSpec, error) {
 	p.first = s.Lookback()
 	if t-p.first < 2 || n < 2 {
 		return nil, fmt.Errorf("%w: T = %d, N = %d; the styles' look-back takes %d dates and at least 2 must remain",
-			ErrTooFewData, t, n, p.first)
+			ErrTooFewObs, t, n, p.first)
 	}
 
 	set := map[string]bool{}
@@ -333,7 +333,7 @@ type CrossSection struct {
 //
 // FitExposure panics with mat.ErrShape if Sectors, Caps (or StaticCaps),
 // a characteristic, Groups or Assets does not match the returns' shape.
-// It returns an error wrapping ErrSettings for bad settings, ErrTooFewData
+// It returns an error wrapping ErrSettings for bad settings, ErrTooFewObs
 // when fewer than 2 dates remain after the look-back or a date has no more
 // assets than parameters, ErrNonFinite for an Inf return or characteristic,
 // ErrCap for a bad cap, ErrEmptySector for a sector with no member present

@@ -20,8 +20,8 @@ import (
 // semidefinite. The seed corpora run in every `go test`.
 
 var sentinels = []error{ErrNonFinite, ErrNoObservations, ErrEmptyDate, ErrTooManyFactors,
-	ErrTooFewData, ErrSettings, ErrNotPSD, ErrSpecificVariance, ErrPrevious, ErrSingular, ErrEmptySector, ErrCap,
-	ewma.ErrHalfLife, ewma.ErrNonFinite, ewma.ErrAllMissing, ewma.ErrTooFew, ewma.ErrZeroVariance,
+	ErrTooFewObs, ErrSettings, ErrNotPSD, ErrSpecificVariance, ErrPrevious, ErrSingular, ErrEmptySector, ErrCap,
+	ewma.ErrHalfLife, ewma.ErrNonFinite, ewma.ErrAllMissing, ewma.ErrTooFewObs, ewma.ErrZeroVariance,
 	ewma.ErrEffectiveObs, ewma.ErrLags, ewma.ErrWeight,
 	shrink.ErrNonFinite, shrink.ErrTooFewObs, shrink.ErrZeroVariance, shrink.ErrNoEigen, shrink.ErrOverflow}
 

@@ -68,7 +68,7 @@ import (
 //
 // Fit panics with mat.ErrShape if Groups, Assets or PreviousIndex is neither
 // nil nor of length N. It returns an error wrapping ErrSettings for bad
-// settings, ErrTooFewData for T or N below 2, ErrTooManyFactors for
+// settings, ErrTooFewObs for T or N below 2, ErrTooManyFactors for
 // K ≥ min(N, T) or K above the rank of the data, ErrNonFinite for an Inf
 // (naming date and asset), ErrNoObservations for an asset with fewer than 2
 // observations, ErrEmptyDate for a date with none, ErrPrevious for a previous
@@ -105,7 +105,7 @@ func Fit(x mat.Matrix, s Settings) (*Model, error) {
 		panic(mat.ErrShape)
 	}
 	if t < 2 || n < 2 {
-		return nil, fmt.Errorf("%w: T = %d, N = %d", ErrTooFewData, t, n)
+		return nil, fmt.Errorf("%w: T = %d, N = %d", ErrTooFewObs, t, n)
 	}
 	r, err := s.resolve(t, n)
 	if err != nil {

@@ -150,9 +150,9 @@ func TestBand(t *testing.T) {
 
 func TestRealizedBad(t *testing.T) {
 	_, err := Realized([]float64{0.01}, nil)
-	require.ErrorIs(t, err, ErrTooFew)
+	require.ErrorIs(t, err, ErrTooFewObs)
 	_, err = Realized(nil, &ExPostOptions{ZeroMean: true})
-	require.ErrorIs(t, err, ErrTooFew)
+	require.ErrorIs(t, err, ErrTooFewObs)
 	e, err := Realized([]float64{0.01}, &ExPostOptions{ZeroMean: true})
 	require.NoError(t, err)
 	require.InDelta(t, 0.01, e.TE, 1e-18)

@@ -17,7 +17,7 @@ import (
 // the tracking error (Euler's theorem for a function homogeneous of degree
 // one; Litterman 1996). The seed corpus runs in every `go test`.
 
-var sentinels = []error{ErrNonFinite, ErrNegative, ErrNotPSD, ErrEmpty, ErrDuplicate, ErrUncovered, ErrTooFew, ErrBand}
+var sentinels = []error{ErrNonFinite, ErrNegative, ErrNotPSD, ErrEmpty, ErrDuplicate, ErrUncovered, ErrTooFewObs, ErrBand}
 
 // specials: the top byte codes decode to NaN and +Inf
 // (fuzzcheck.Bytes.Value); the seed corpora depend on it.
