@@ -383,9 +383,9 @@ func buildEWMA(m *Model, win *Panel, o BuildOptions, rep *BuildReport) error {
 	if o.Method == MethodSample {
 		// Equal weights with the mean removed: the sample covariance with the
 		// divisor T, pairwise over missing data.
-		r, err = ewma.CovarianceTo(dst, win.r, nil, &ewma.Options{Demean: true})
+		_, r, err = ewma.Covariance(dst, win.r, nil, &ewma.Options{Demean: true})
 	} else {
-		r, err = ewma.Estimate(dst, win.r, ewma.Settings{
+		_, r, err = ewma.Estimate(dst, win.r, ewma.Settings{
 			VolHalfLife: o.VolHalfLife, CorrHalfLife: o.CorrHalfLife, NeweyWestLags: o.NeweyWestLags,
 		})
 	}

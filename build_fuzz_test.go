@@ -22,11 +22,11 @@ import (
 var buildSentinels = []error{ErrMethod, ErrEmpty, ErrDuplicate, ErrImpossible, ErrNonFinite,
 	ErrUnsorted, ErrUnknownAsset, ErrPeriodsPerYear, ErrInvalidModel,
 	ewma.ErrHalfLife, ewma.ErrDecay, ewma.ErrLength, ewma.ErrWeight, ewma.ErrNonFinite,
-	ewma.ErrAllMissing, ewma.ErrTooFew, ewma.ErrEffectiveObs, ewma.ErrZeroVariance, ewma.ErrLags,
+	ewma.ErrAllMissing, ewma.ErrTooFewObs, ewma.ErrEffectiveObs, ewma.ErrZeroVariance, ewma.ErrLags,
 	shrink.ErrNonFinite, shrink.ErrTooFewObs, shrink.ErrZeroVariance, shrink.ErrWeights,
 	shrink.ErrNotConverged, shrink.ErrBadParameter, shrink.ErrNoEigen, shrink.ErrRankDeficient, shrink.ErrOverflow,
 	factor.ErrNonFinite, factor.ErrNoObservations, factor.ErrEmptyDate, factor.ErrTooManyFactors,
-	factor.ErrTooFewData, factor.ErrSettings, factor.ErrNotPSD, factor.ErrSpecificVariance,
+	factor.ErrTooFewObs, factor.ErrSettings, factor.ErrNotPSD, factor.ErrSpecificVariance,
 	factor.ErrPrevious, factor.ErrSingular, factor.ErrEmptySector, factor.ErrCap}
 
 // buildBytes hands out the fuzz input a byte at a time, then zeros.

@@ -158,10 +158,10 @@ func TestConcurrentReads(t *testing.T) {
 		}
 		read := func() []uint64 {
 			var c, cr mat.SymDense
-			if _, err := r.CovarianceTo(&c); err != nil {
+			if _, _, err := r.CovarianceTo(&c); err != nil {
 				panic(err)
 			}
-			if _, err := r.CorrelationTo(&cr); err != nil {
+			if _, _, err := r.CorrelationTo(&cr); err != nil {
 				panic(err)
 			}
 			vars, err := r.VariancesTo(nil)

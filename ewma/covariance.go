@@ -6,8 +6,8 @@ import (
 	"github.com/riskmodel/riskmodel/internal/dense"
 )
 
-// CovarianceTo sets dst to the weighted covariance of the columns of the T×N
-// matrix x (rows are dates, NaN is missing) and returns diagnostics:
+// Covariance sets dst to the weighted covariance of the columns of the T×N
+// matrix x (rows are dates, NaN is missing) and returns it with diagnostics:
 //
 //	Σ_ij = Σ_t w_t m_ti m_tj (x_ti − μ_i)(x_tj − μ_j) / Σ_t w_t m_ti m_tj
 //
@@ -23,10 +23,9 @@ import (
 // semidefiniteness (a Cholesky factorization, then an eigendecomposition if
 // that fails) and repaired if needed; Report.Repair says how.
 //
-// CovarianceTo panics with mat.ErrShape if len(w) ≠ T or dst is neither
-// empty nor N×N; a nil dst panics as gonum's fill methods do, so pass
-// &mat.SymDense{} to allocate. It returns an error wrapping ErrWeight,
-// ErrNonFinite (an Inf in x, or an entry that overflows), ErrAllMissing, ErrTooFew (a column or pair with
+// A nil or empty dst is allocated. Covariance panics with mat.ErrShape if
+// len(w) ≠ T or dst is neither nil, empty nor N×N. It returns an error wrapping ErrWeight,
+// ErrNonFinite (an Inf in x, or an entry that overflows), ErrAllMissing, ErrTooFewObs (a column or pair with
 // fewer than 2 common observations) or ErrEffectiveObs (a pair below
 // opts.MinEffectiveObs). Cost: one to four O(T·N²) products on all cores
 // through internal/dense, plus O(N³) for the check when data are missing.
@@ -34,66 +33,60 @@ import (
 // References: pandas 1.5.3, DataFrame.ewm(halflife=h, adjust=True).cov();
 // Higham, N. J. (1988), "Computing a nearest symmetric positive semidefinite
 // matrix", Linear Algebra Appl. 103:103–118 (eigenvalue clipping).
-func CovarianceTo(dst *mat.SymDense, x mat.Matrix, w []float64, opts *Options) (*Report, error) {
-	if dst == nil {
-		panic(mat.ErrShape)
-	}
+func Covariance(dst *mat.SymDense, x mat.Matrix, w []float64, opts *Options) (*mat.SymDense, *Report, error) {
 	_, n := x.Dims()
 	dst = dense.SizeSym(dst, n)
 	o := opts.orZero()
 	d, err := load(x, w, o)
 	if err != nil {
-		return nil, err
+		return dst, nil, err
 	}
 	m := d.products(o.Demean, false)
 	rep := &Report{}
 	if err := finishCov(dst, m, o, o.Unbiased, rep); err != nil {
-		return rep, err
+		return dst, rep, err
 	}
 	if m.wt != nil {
 		rep.Checked = true
 		rep.Repair = makePSD(dst)
 	}
-	return rep, nil
+	return dst, rep, nil
 }
 
-// CorrelationTo sets dst to the weighted correlation of the columns of x and
-// returns diagnostics:
+// Correlation sets dst to the weighted correlation of the columns of x and
+// returns it with diagnostics:
 //
 //	C_ij = Σ_ij / √(Σ_ii Σ_jj)
 //
-// with Σ the biased covariance of CovarianceTo (opts.Unbiased is ignored: it
+// with Σ the biased covariance of Covariance (opts.Unbiased is ignored: it
 // would cancel without missing data). With pairwise data all three moments
 // of an entry use the dates both assets share (and, with Demean, the means
 // over those dates), so |C_ij| ≤ 1: pandas' convention, whose pairwise
 // DataFrame.ewm().corr() masks each column with the other's gaps. A pairwise
 // correlation matrix can still fail to be positive semidefinite; it is then
-// repaired as in CovarianceTo, which keeps the unit diagonal, and the repair
+// repaired as in Covariance, which keeps the unit diagonal, and the repair
 // is reported.
 //
-// Panics and errors as for CovarianceTo, plus ErrZeroVariance for a column of
-// zero variance. Cost as for CovarianceTo.
+// Panics and errors as for Covariance, plus ErrZeroVariance for a column of
+// zero variance. Cost as for Covariance.
 //
 // References: pandas 1.5.3, DataFrame.ewm(halflife=h, adjust=True).corr();
 // Higham, N. J. (1988), "Computing a nearest symmetric positive semidefinite
 // matrix", Linear Algebra Appl. 103:103–118.
-func CorrelationTo(dst *mat.SymDense, x mat.Matrix, w []float64, opts *Options) (*Report, error) {
-	if dst == nil {
-		panic(mat.ErrShape)
-	}
+func Correlation(dst *mat.SymDense, x mat.Matrix, w []float64, opts *Options) (*mat.SymDense, *Report, error) {
 	_, n := x.Dims()
 	dst = dense.SizeSym(dst, n)
 	o := opts.orZero()
 	d, err := load(x, w, o)
 	if err != nil {
-		return nil, err
+		return dst, nil, err
 	}
 	m := d.products(o.Demean, true)
 	rep := &Report{}
 	if err := finishCorr(dst, m, o, rep); err != nil {
-		return rep, err
+		return dst, rep, err
 	}
-	return rep, nil
+	return dst, rep, nil
 }
 
 func finishCorr(dst *mat.SymDense, m *sums, o Options, rep *Report) error {

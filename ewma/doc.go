@@ -36,6 +36,10 @@
 // Options.CompleteCase only the dates on which every asset is present are
 // used, and the result is positive semidefinite by construction.
 //
-// Inputs are never modified. Shape misuse panics with mat.ErrShape; bad data
-// returns an error wrapping one of the exported sentinels.
+// Results go to a dst that comes first, as in gonum: the functions
+// (Covariance, Means, …) and the methods that fill a destination (named …To,
+// as Recursive.CovarianceTo) allocate a nil or empty dst and return it. A
+// dst of the wrong size panics with mat.ErrShape, as does other shape
+// misuse. Inputs are never modified. Bad data returns an error wrapping one
+// of the exported sentinels.
 package ewma

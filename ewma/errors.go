@@ -14,7 +14,7 @@ var (
 	ErrWeight       = errors.New("ewma: weight is negative or not finite")
 	ErrNonFinite    = errors.New("ewma: value is infinite")
 	ErrAllMissing   = errors.New("ewma: column has no observation")
-	ErrTooFew       = errors.New("ewma: fewer than 2 usable observations")
+	ErrTooFewObs    = errors.New("ewma: fewer than 2 usable observations")
 	ErrEffectiveObs = errors.New("ewma: effective number of observations below the minimum")
 	ErrZeroVariance = errors.New("ewma: zero variance, correlation undefined")
 	ErrLags         = errors.New("ewma: Newey–West lags must be ≥ 0 or AutoLags")

@@ -16,71 +16,69 @@ type Settings struct {
 	// NeweyWestLags is 0 for no adjustment, a positive number of lags, or
 	// AutoLags for ⌊4(T/100)^(2/9)⌋.
 	NeweyWestLags int
-	Options       // missing data, mean and bias handling, as for CovarianceTo
+	Options       // missing data, mean and bias handling, as for Covariance
 }
 
 // Estimate sets dst to the risk forecast with separate half-lives for
-// volatility and correlation and returns diagnostics:
+// volatility and correlation and returns it with diagnostics:
 //
 //	Σ = D·C·D,   D = diag(σ_1 … σ_N)
 //
-// σ²_i is the weighted variance of column i (VariancesTo, with its own
+// σ²_i is the weighted variance of column i (Variances, with its own
 // observations) under Weights(T, VolHalfLife), and C the weighted correlation
-// (CorrelationTo) under Weights(T, CorrHalfLife), both over the T rows of x.
+// (Correlation) under Weights(T, CorrHalfLife), both over the T rows of x.
 // With NeweyWestLags ≠ 0 both are computed from the Newey–West adjusted
-// covariance of NeweyWestTo under their own weights (the variances from its
+// covariance of NeweyWest under their own weights (the variances from its
 // diagonal, C by dividing it by the square roots of its diagonal, so with
 // gaps an entry of C may leave [−1, 1] before the repair). C is checked and repaired as in
-// CorrelationTo when values are missing or lags are used, so Σ is positive
+// Correlation when values are missing or lags are used, so Σ is positive
 // semidefinite. The Report is that of the correlation step, with
 // VolEffectiveObs from the volatility weights.
 //
-// Estimate panics with mat.ErrShape if dst is nil or neither empty nor N×N.
+// A nil or empty dst is allocated; Estimate panics with mat.ErrShape if dst
+// is neither nil, empty nor N×N.
 // It returns an error wrapping ErrHalfLife for a missing or bad half-life,
 // ErrLags for a bad lag count, ErrZeroVariance for a non-positive variance,
-// and the errors of CovarianceTo. Cost as for CovarianceTo (NeweyWestTo).
+// and the errors of Covariance. Cost as for Covariance (NeweyWest).
 //
 // References: J.P. Morgan/Reuters (1996), RiskMetrics — Technical Document,
 // 4th ed., chapter 5; Newey, W. K. and West, K. D. (1987), Econometrica
 // 55(3):703–708.
-func Estimate(dst *mat.SymDense, x mat.Matrix, s Settings) (*Report, error) {
-	if dst == nil {
-		panic(mat.ErrShape)
-	}
+func Estimate(dst *mat.SymDense, x mat.Matrix, s Settings) (*mat.SymDense, *Report, error) {
 	t, n := x.Dims()
 	dst = dense.SizeSym(dst, n)
 	if !validHalfLife(s.VolHalfLife) {
-		return nil, errAt(ErrHalfLife, -1, -1, -1, s.VolHalfLife)
+		return dst, nil, errAt(ErrHalfLife, -1, -1, -1, s.VolHalfLife)
 	}
 	if !validHalfLife(s.CorrHalfLife) {
-		return nil, errAt(ErrHalfLife, -1, -1, -1, s.CorrHalfLife)
+		return dst, nil, errAt(ErrHalfLife, -1, -1, -1, s.CorrHalfLife)
 	}
 	lags, err := resolveLags(s.NeweyWestLags, t)
 	if err != nil {
-		return nil, err
+		return dst, nil, err
 	}
 	if t < 1 {
-		return nil, errAt(ErrTooFew, -1, -1, -1, 0)
+		return dst, nil, errAt(ErrTooFewObs, -1, -1, -1, 0)
 	}
 	o := s.Options
 	wv, _ := Weights(nil, t, s.VolHalfLife)
 	wc, _ := Weights(nil, t, s.CorrHalfLife)
 
-	vars, err := VariancesTo(nil, x, wv, &o)
+	vars, err := Variances(nil, x, wv, &o)
 	if err != nil {
-		return nil, err
+		return dst, nil, err
 	}
 	if lags > 0 {
 		d, err := load(x, wv, o)
 		if err != nil {
-			return nil, err
+			return dst, nil, err
 		}
 		adj := d.lagDiag(lags, o.Demean)
 		if o.Unbiased {
-			// VariancesTo applied the factor to Γ_0; give the lag terms the same.
+			// Variances applied the factor to Γ_0; give the lag terms the same.
 			plain := o
 			plain.Unbiased = false
-			raw, _ := VariancesTo(nil, x, wv, &plain)
+			raw, _ := Variances(nil, x, wv, &plain)
 			for i := range adj {
 				adj[i] *= vars[i] / raw[i]
 			}
@@ -91,18 +89,18 @@ func Estimate(dst *mat.SymDense, x mat.Matrix, s Settings) (*Report, error) {
 	}
 	for i, v := range vars {
 		if !(v > 0) {
-			return nil, errAt(ErrZeroVariance, -1, i, -1, v)
+			return dst, nil, errAt(ErrZeroVariance, -1, i, -1, v)
 		}
 	}
 
 	d, err := load(x, wc, o)
 	if err != nil {
-		return nil, err
+		return dst, nil, err
 	}
 	m := d.products(o.Demean, true)
 	rep := &Report{NeweyWestLags: lags}
 	if err := finishCov(dst, m, o, false, rep); err != nil {
-		return rep, err
+		return dst, rep, err
 	}
 	if lags > 0 {
 		plain := o
@@ -115,7 +113,7 @@ func Estimate(dst *mat.SymDense, x mat.Matrix, s Settings) (*Report, error) {
 		err = correlate(dst, m)
 	}
 	if err != nil {
-		return rep, err
+		return dst, rep, err
 	}
 	if m.wt != nil || lags > 0 {
 		rep.Checked = true
@@ -133,5 +131,5 @@ func Estimate(dst *mat.SymDense, x mat.Matrix, s Settings) (*Report, error) {
 			raw.Data[i*raw.Stride+j] *= sd[i] * sd[j]
 		}
 	}
-	return rep, nil
+	return dst, rep, nil
 }

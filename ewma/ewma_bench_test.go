@@ -25,14 +25,14 @@ func BenchmarkCovariance(b *testing.B) {
 				b.ReportAllocs()
 				for b.Loop() {
 					var c mat.SymDense
-					_, _ = CovarianceTo(&c, x, w, o)
+					_, _, _ = Covariance(&c, x, w, o)
 				}
 			})
 			b.Run(fmt.Sprintf("T=%d/N=%d/demean=%v/inplace", sz.t, sz.n, demean), func(b *testing.B) {
 				b.ReportAllocs()
 				c := mat.NewSymDense(sz.n, nil)
 				for b.Loop() {
-					_, _ = CovarianceTo(c, x, w, o)
+					_, _, _ = Covariance(c, x, w, o)
 				}
 			})
 		}
@@ -50,7 +50,7 @@ func BenchmarkCovarianceGaps(b *testing.B) {
 			b.ReportAllocs()
 			c := mat.NewSymDense(sz.n, nil)
 			for b.Loop() {
-				_, _ = CovarianceTo(c, x, w, nil)
+				_, _, _ = Covariance(c, x, w, nil)
 			}
 		})
 	}

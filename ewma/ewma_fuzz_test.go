@@ -17,60 +17,26 @@ import (
 // positive semidefinite matrix. The seed corpora run in every `go test`.
 
 var sentinels = []error{ErrHalfLife, ErrDecay, ErrLength, ErrWeight, ErrNonFinite,
-	ErrAllMissing, ErrTooFew, ErrEffectiveObs, ErrZeroVariance, ErrLags, ErrState}
+	ErrAllMissing, ErrTooFewObs, ErrEffectiveObs, ErrZeroVariance, ErrLags, ErrState}
 
-// fuzzBytes hands out the fuzz input a byte at a time, then zeros.
-type fuzzBytes []byte
+// specials: the top byte codes decode to NaN, ±Inf, 1e150 and 1e−150
+// (fuzzcheck.Bytes.Value); the seed corpora depend on it.
+const specials = 5
 
-func (b *fuzzBytes) next() byte {
-	if len(*b) == 0 {
-		return 0
-	}
-	c := (*b)[0]
-	*b = (*b)[1:]
-	return c
-}
-
-// value decodes one byte: a few codes are NaN (missing), ±Inf, zero or a
-// huge or tiny number; the others are multiples of 0.01 in [−1.27, 1.27].
-func (b *fuzzBytes) value() float64 {
-	c := b.next()
-	switch c {
-	case 0xff:
-		return math.NaN()
-	case 0xfe:
-		return math.Inf(1)
-	case 0xfd:
-		return math.Inf(-1)
-	case 0xfc:
-		return 1e150
-	case 0xfb:
-		return 1e-150
-	}
-	return float64(int8(c)) / 100
-}
-
-// matrix decodes a T×N matrix with 1 ≤ T ≤ 12, 1 ≤ N ≤ 6, all scaled by a
+// fuzzMatrix decodes a T×N matrix with 1 ≤ T ≤ 12, 1 ≤ N ≤ 6, all scaled by a
 // power of ten in 1e−8 … 1e7 so that scale-dependent tolerances are tested.
-func (b *fuzzBytes) matrix() *mat.Dense {
-	t, n := 1+int(b.next()%12), 1+int(b.next()%6)
-	scale := math.Pow(10, float64(int(b.next()%16)-8))
-	x := mat.NewDense(t, n, nil)
-	for i := 0; i < t; i++ {
-		for j := 0; j < n; j++ {
-			x.Set(i, j, b.value()*scale)
-		}
-	}
-	return x
+func fuzzMatrix(b *fuzzcheck.Bytes) *mat.Dense {
+	t, n := 1+int(b.Next()%12), 1+int(b.Next()%6)
+	return b.Dense(t, n, b.Scale(-8, 16), specials)
 }
 
-// weights decodes nil (equal weights), a half-life's weights or raw weights.
-func (b *fuzzBytes) weights(t int) []float64 {
-	switch b.next() % 3 {
+// fuzzWeights decodes nil (equal weights), a half-life's weights or raw weights.
+func fuzzWeights(b *fuzzcheck.Bytes, t int) []float64 {
+	switch b.Next() % 3 {
 	case 0:
 		return nil
 	case 1:
-		w, err := Weights(nil, t, 1+float64(b.next()%20))
+		w, err := Weights(nil, t, 1+float64(b.Next()%20))
 		if err != nil {
 			panic(err)
 		}
@@ -78,13 +44,13 @@ func (b *fuzzBytes) weights(t int) []float64 {
 	}
 	w := make([]float64, t)
 	for i := range w {
-		w[i] = b.value()
+		w[i] = b.Value(specials)
 	}
 	return w
 }
 
-func (b *fuzzBytes) options() *Options {
-	c := b.next()
+func fuzzOptions(b *fuzzcheck.Bytes) *Options {
+	c := b.Next()
 	if c&1 == 0 {
 		return nil
 	}
@@ -116,23 +82,23 @@ func FuzzEstimators(f *testing.F) {
 	f.Add([]byte{1, 0, 8, 5, 0, 1, 0, 3})
 	f.Add([]byte{2, 2, 0, 0xfe, 1, 2, 3, 4, 5, 6, 7, 8, 0, 1, 5})
 	f.Fuzz(func(t *testing.T, data []byte) {
-		b := fuzzBytes(data)
-		x := b.matrix()
+		b := fuzzcheck.Bytes(data)
+		x := fuzzMatrix(&b)
 		rows, n := x.Dims()
-		w := b.weights(rows)
-		opts := b.options()
-		which := b.next() % 5
-		lags := int(b.next()%5) - 1 // −1 is AutoLags
+		w := fuzzWeights(&b, rows)
+		opts := fuzzOptions(&b)
+		which := b.Next() % 5
+		lags := int(b.Next()%5) - 1 // −1 is AutoLags
 		var dst mat.SymDense
 		var err error
 		switch which {
 		case 0:
-			_, err = CovarianceTo(&dst, x, w, opts)
+			_, _, err = Covariance(&dst, x, w, opts)
 		case 1:
-			_, err = CorrelationTo(&dst, x, w, opts)
+			_, _, err = Correlation(&dst, x, w, opts)
 		case 2:
 			var v []float64
-			v, err = VariancesTo(nil, x, w, opts)
+			v, err = Variances(nil, x, w, opts)
 			if err == nil {
 				if len(v) != n {
 					t.Fatalf("%d variances for %d columns", len(v), n)
@@ -144,13 +110,13 @@ func FuzzEstimators(f *testing.F) {
 				}
 			}
 		case 3:
-			_, err = NeweyWestTo(&dst, x, w, lags, opts)
+			_, _, err = NeweyWest(&dst, x, w, lags, opts)
 		case 4:
-			s := Settings{VolHalfLife: float64(b.next() % 30), CorrHalfLife: float64(b.next() % 30), NeweyWestLags: lags}
+			s := Settings{VolHalfLife: float64(b.Next() % 30), CorrHalfLife: float64(b.Next() % 30), NeweyWestLags: lags}
 			if opts != nil {
 				s.Options = *opts
 			}
-			_, err = Estimate(&dst, x, s)
+			_, _, err = Estimate(&dst, x, s)
 		}
 		if err != nil {
 			checkErr(t, err)
@@ -167,11 +133,11 @@ func FuzzRecursive(f *testing.F) {
 	f.Add([]byte{11, 3, 8, 0xff, 2, 3, 4, 0xff, 6, 7, 8, 9, 10, 11, 12, 13, 14, 15, 16, 17, 18, 19, 20, 21, 22, 23, 24, 3, 5, 7})
 	f.Add([]byte{6, 2, 8, 0xfe, 2, 3, 4, 5, 6, 7, 8, 9, 10, 11, 12, 13, 14, 15, 16, 17, 18, 0, 2, 0})
 	f.Fuzz(func(t *testing.T, data []byte) {
-		b := fuzzBytes(data)
-		x := b.matrix()
+		b := fuzzcheck.Bytes(data)
+		x := fuzzMatrix(&b)
 		rows, n := x.Dims()
-		opts := b.options()
-		s := RecursiveSettings{HalfLife: float64(b.next() % 20), Window: int(b.next() % 8), VariancesOnly: b.next()&1 == 1}
+		opts := fuzzOptions(&b)
+		s := RecursiveSettings{HalfLife: float64(b.Next() % 20), Window: int(b.Next() % 8), VariancesOnly: b.Next()&1 == 1}
 		if opts != nil {
 			s.Options = *opts
 		}
@@ -190,7 +156,7 @@ func FuzzRecursive(f *testing.F) {
 		}
 		var dst mat.SymDense
 		if !s.VariancesOnly {
-			if _, err := r.CovarianceTo(&dst); err != nil {
+			if _, _, err := r.CovarianceTo(&dst); err != nil {
 				checkErr(t, err)
 			} else {
 				checkCov(t, &dst, squareScale(x))

@@ -48,16 +48,16 @@ func ExampleRecursionWeights() {
 	// Output: [0.2500 0.2500 0.5000]
 }
 
-func ExampleMeansTo() {
+func ExampleMeans() {
 	w, _ := ewma.Weights(nil, 8, 4)
-	mu, _ := ewma.MeansTo(nil, returns(), w, nil)
+	mu, _ := ewma.Means(nil, returns(), w, nil)
 	fmt.Printf("%.4f\n", mu)
 	// Output: [0.0021 0.0019 0.0001]
 }
 
-func ExampleVariancesTo() {
+func ExampleVariances() {
 	w, _ := ewma.Weights(nil, 8, 4)
-	v, _ := ewma.VariancesTo(nil, returns(), w, nil)
+	v, _ := ewma.Variances(nil, returns(), w, nil)
 	for _, x := range v {
 		fmt.Printf("%.4f%% ", 100*math.Sqrt(x))
 	}
@@ -65,10 +65,10 @@ func ExampleVariancesTo() {
 	// Output: 0.7126% 0.6978% 0.3290%
 }
 
-func ExampleCovarianceTo() {
+func ExampleCovariance() {
 	w, _ := ewma.Weights(nil, 8, 4)
 	var c mat.SymDense
-	rep, _ := ewma.CovarianceTo(&c, returns(), w, &ewma.Options{Demean: true})
+	_, rep, _ := ewma.Covariance(&c, returns(), w, &ewma.Options{Demean: true})
 	var scaled mat.SymDense
 	scaled.ScaleSym(1e4, &c) // in units of 10⁻⁴
 	fmt.Printf("%.4f\n", mat.Formatted(&scaled, mat.Squeeze()))
@@ -85,24 +85,24 @@ func ExampleCovarianceTo() {
 	// repaired: min eigenvalue -0.0091 ×10⁻⁴, 1 clipped
 }
 
-func ExampleCorrelationTo() {
+func ExampleCorrelation() {
 	w, _ := ewma.Weights(nil, 8, 4)
 	var c mat.SymDense
-	_, _ = ewma.CorrelationTo(&c, returns(), w, nil)
+	_, _, _ = ewma.Correlation(&c, returns(), w, nil)
 	fmt.Printf("%.4f %.4f %.4f\n", c.At(0, 1), c.At(0, 2), c.At(1, 2))
 	// Output: 0.9782 -0.8979 -0.8879
 }
 
-func ExampleNeweyWestTo() {
+func ExampleNeweyWest() {
 	var c mat.SymDense
-	rep, _ := ewma.NeweyWestTo(&c, returns(), nil, ewma.AutoLags, nil)
+	_, rep, _ := ewma.NeweyWest(&c, returns(), nil, ewma.AutoLags, nil)
 	fmt.Printf("lags %d, variance of the first asset %.4f (×10⁴)\n", rep.NeweyWestLags, 1e4*c.At(0, 0))
 	// Output: lags 2, variance of the first asset 0.2333 (×10⁴)
 }
 
 func ExampleEstimate() {
 	var sigma mat.SymDense
-	rep, err := ewma.Estimate(&sigma, returns(), ewma.Settings{VolHalfLife: 3, CorrHalfLife: 6})
+	_, rep, err := ewma.Estimate(&sigma, returns(), ewma.Settings{VolHalfLife: 3, CorrHalfLife: 6})
 	if err != nil {
 		fmt.Println(err)
 		return

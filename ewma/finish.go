@@ -22,7 +22,7 @@ func finishCov(dst *mat.SymDense, m *sums, o Options, unbiased bool, rep *Report
 			k := i*n + j
 			wt, w2, cnt := m.pair(k)
 			if cnt < 2 {
-				return errAt(ErrTooFew, -1, i, j, cnt)
+				return errAt(ErrTooFewObs, -1, i, j, cnt)
 			}
 			eff := wt * wt / w2
 			if eff < rep.MinPairEffectiveObs {

@@ -2,41 +2,38 @@ package ewma
 
 import (
 	"gonum.org/v1/gonum/mat"
+
+	"github.com/riskmodel/riskmodel/internal/dense"
 )
 
-// MeansTo sets dst to the weighted mean of each column of the T×N matrix x
+// Means sets dst to the weighted mean of each column of the T×N matrix x
 // over its own observations and returns dst:
 //
 //	μ_j = Σ_t w_t m_tj x_tj / Σ_t w_t m_tj
 //
 // where m_tj is 1 if x_tj is present (not NaN) and 0 otherwise. A nil w means
 // equal weights. With opts.CompleteCase only the rows with no missing value
-// are used. A nil dst is allocated.
+// are used. A nil or empty dst is allocated.
 //
-// MeansTo panics with mat.ErrShape if len(w) ≠ T or dst is neither nil nor of
-// length N. It returns an error wrapping ErrWeight for a negative or
+// Means panics with mat.ErrShape if len(w) ≠ T or dst is neither nil, empty
+// nor of length N. It returns an error wrapping ErrWeight for a negative or
 // non-finite weight, ErrNonFinite for an Inf, ErrAllMissing for a column with
-// no observation and ErrTooFew for one with a single observation. Cost
+// no observation and ErrTooFewObs for one with a single observation. Cost
 // O(T·N).
 //
 // References: pandas 1.5.3, DataFrame.ewm(halflife=h, adjust=True).mean().
-func MeansTo(dst []float64, x mat.Matrix, w []float64, opts *Options) ([]float64, error) {
+func Means(dst []float64, x mat.Matrix, w []float64, opts *Options) ([]float64, error) {
 	_, n := x.Dims()
-	if dst != nil && len(dst) != n {
-		panic(mat.ErrShape)
-	}
+	dst = dense.SizeVec(dst, n)
 	d, err := load(x, w, opts.orZero())
 	if err != nil {
 		return dst, err
-	}
-	if dst == nil {
-		dst = make([]float64, n)
 	}
 	copy(dst, d.columnMeans())
 	return dst, nil
 }
 
-// VariancesTo sets dst to the weighted variance of each column of the T×N
+// Variances sets dst to the weighted variance of each column of the T×N
 // matrix x over its own observations (NaN is missing, the weights are
 // renormalised over the column's observations) and returns dst:
 //
@@ -45,19 +42,17 @@ func MeansTo(dst []float64, x mat.Matrix, w []float64, opts *Options) ([]float64
 // with μ_j = 0 by default and the weighted mean with opts.Demean. The divisor
 // is the total weight Σ_t w_t m_tj; opts.Unbiased multiplies by
 // (Σw)²/((Σw)² − Σw²) over the column's observations (pandas' bias=False). A
-// nil w means equal weights; a nil dst is allocated.
+// nil w means equal weights; a nil or empty dst is allocated.
 //
-// VariancesTo panics with mat.ErrShape if len(w) ≠ T or dst is neither nil nor
+// Variances panics with mat.ErrShape if len(w) ≠ T or dst is neither nil, empty nor
 // of length N. It returns an error wrapping ErrWeight, ErrNonFinite,
-// ErrAllMissing, ErrTooFew (a column with fewer than 2 observations) or
+// ErrAllMissing, ErrTooFewObs (a column with fewer than 2 observations) or
 // ErrEffectiveObs (below opts.MinEffectiveObs). Cost O(T·N).
 //
 // References: pandas 1.5.3, DataFrame.ewm(halflife=h, adjust=True).var().
-func VariancesTo(dst []float64, x mat.Matrix, w []float64, opts *Options) ([]float64, error) {
+func Variances(dst []float64, x mat.Matrix, w []float64, opts *Options) ([]float64, error) {
 	_, n := x.Dims()
-	if dst != nil && len(dst) != n {
-		panic(mat.ErrShape)
-	}
+	dst = dense.SizeVec(dst, n)
 	o := opts.orZero()
 	if raw, ok := x.(*mat.Dense); ok && !o.CompleteCase {
 		return variancesDense(dst, raw, w, o)

@@ -29,8 +29,9 @@ func NeweyWestLag(t int) int {
 	return int(math.Floor(4 * math.Pow(float64(t)/100, 2.0/9.0)))
 }
 
-// NeweyWestTo sets dst to the weighted covariance of CovarianceTo adjusted
-// for serial correlation with Bartlett weights, and returns diagnostics:
+// NeweyWest sets dst to the weighted covariance of Covariance adjusted
+// for serial correlation with Bartlett weights, and returns it with
+// diagnostics:
 //
 //	Σ_NW = Γ_0 + Σ_{j=1..L} (1 − j/(L+1)) (Γ_j + Γ_jᵀ)
 //	Γ_j  = Σ_{t=j..T−1} w_t y_t y_{t−j}ᵀ / Σ_t w_t
@@ -42,39 +43,36 @@ func NeweyWestLag(t int) int {
 // products as zero and each entry is divided by its pair's Γ_0 weight; with
 // opts.Unbiased the whole entry takes Γ_0's factor. With equal weights and
 // complete data this is statsmodels' S_hac_simple(x, nlags=L) divided by T.
-// lags = AutoLags uses NeweyWestLag(T); lags = 0 gives CovarianceTo.
+// lags = AutoLags uses NeweyWestLag(T); lags = 0 gives Covariance.
 //
 // Exponential weights or missing data can make Σ_NW indefinite, so the result
-// is checked and, if needed, repaired as in CovarianceTo whenever L > 0 or a
+// is checked and, if needed, repaired as in Covariance whenever L > 0 or a
 // value is missing.
 //
-// Panics as for CovarianceTo. Errors as for CovarianceTo, plus ErrLags for
-// lags < 0 other than AutoLags or lags ≥ T. Cost: CovarianceTo plus O(T·N·L)
+// Panics as for Covariance. Errors as for Covariance, plus ErrLags for
+// lags < 0 other than AutoLags or lags ≥ T. Cost: Covariance plus O(T·N·L)
 // and one T×N×N matrix product.
 //
 // References: Newey, W. K. and West, K. D. (1987), "A simple, positive
 // semi-definite, heteroskedasticity and autocorrelation consistent covariance
 // matrix", Econometrica 55(3):703–708; statsmodels 0.13.5,
 // sandwich_covariance.S_hac_simple.
-func NeweyWestTo(dst *mat.SymDense, x mat.Matrix, w []float64, lags int, opts *Options) (*Report, error) {
-	if dst == nil {
-		panic(mat.ErrShape)
-	}
+func NeweyWest(dst *mat.SymDense, x mat.Matrix, w []float64, lags int, opts *Options) (*mat.SymDense, *Report, error) {
 	t, n := x.Dims()
 	dst = dense.SizeSym(dst, n)
 	lags, err := resolveLags(lags, t)
 	if err != nil {
-		return nil, err
+		return dst, nil, err
 	}
 	o := opts.orZero()
 	d, err := load(x, w, o)
 	if err != nil {
-		return nil, err
+		return dst, nil, err
 	}
 	m := d.products(o.Demean, false)
 	rep := &Report{NeweyWestLags: lags}
 	if err := finishCov(dst, m, o, o.Unbiased, rep); err != nil {
-		return rep, err
+		return dst, rep, err
 	}
 	if lags > 0 {
 		addLagTerms(dst, d, m, lags, o)
@@ -83,7 +81,7 @@ func NeweyWestTo(dst *mat.SymDense, x mat.Matrix, w []float64, lags int, opts *O
 		rep.Checked = true
 		rep.Repair = makePSD(dst)
 	}
-	return rep, nil
+	return dst, rep, nil
 }
 
 func resolveLags(lags, t int) (int, error) {

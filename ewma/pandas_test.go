@@ -14,7 +14,7 @@ import (
 // Conventions: pandas always demeans (Options.Demean); its cov()/var()
 // default bias=False is Options.Unbiased, bias=True is the package default;
 // pandas' corr() uses biased moments, the pair's dates for the covariance
-// and each asset's own dates for the variances, as CorrelationTo does. The
+// and each asset's own dates for the variances, as Correlation does. The
 // zero-mean moments are checked against the pandas ewm mean of x_i·x_j.
 // adjust=False is reproduced with RecursionWeights on complete data only:
 // with gaps pandas' adjust=False renormalises step by step, which is not a
@@ -41,38 +41,38 @@ func TestPandasReference(t *testing.T) {
 	} {
 		t.Run(tc.name, func(t *testing.T) {
 			var got mat.SymDense
-			_, err := CovarianceTo(&got, tc.x, tc.w, &Options{Demean: true, Unbiased: true})
+			_, _, err := Covariance(&got, tc.x, tc.w, &Options{Demean: true, Unbiased: true})
 			require.NoError(t, err)
 			// pandas 1.5.3: df.ewm(halflife=10, adjust=A).cov() (bias=False)
 			requireSymClose(t, symOf(tc.ref.CovUnbiased), &got, tc.tol, "cov bias=False")
 
-			_, err = CovarianceTo(&got, tc.x, tc.w, &Options{Demean: true})
+			_, _, err = Covariance(&got, tc.x, tc.w, &Options{Demean: true})
 			require.NoError(t, err)
 			// pandas 1.5.3: df.ewm(halflife=10, adjust=A).cov(bias=True)
 			requireSymClose(t, symOf(tc.ref.CovBiased), &got, tc.tol, "cov bias=True")
 
-			rep, err := CorrelationTo(&got, tc.x, tc.w, &Options{Demean: true})
+			_, rep, err := Correlation(&got, tc.x, tc.w, &Options{Demean: true})
 			require.NoError(t, err)
 			require.Nil(t, rep.Repair, "the pandas correlation here is PSD, nothing to repair")
 			// pandas 1.5.3: df.ewm(halflife=10, adjust=A).corr()
 			requireSymClose(t, symOf(tc.ref.Corr), &got, tc.tol, "corr")
 
-			_, err = CovarianceTo(&got, tc.x, tc.w, nil)
+			_, _, err = Covariance(&got, tc.x, tc.w, nil)
 			require.NoError(t, err)
 			// pandas 1.5.3: (df[i]*df[j]).ewm(halflife=10, adjust=A).mean()
 			requireSymClose(t, symOf(tc.ref.ZeroMean), &got, tc.tol, "zero mean")
 
-			v, err := VariancesTo(nil, tc.x, tc.w, &Options{Demean: true, Unbiased: true})
+			v, err := Variances(nil, tc.x, tc.w, &Options{Demean: true, Unbiased: true})
 			require.NoError(t, err)
 			// pandas 1.5.3: df.ewm(halflife=10, adjust=A).var()
 			require.InDeltaSlice(t, tc.ref.VarUnbiased, v, tc.tol*maxAbs(tc.ref.VarUnbiased))
 
-			v, err = VariancesTo(v, tc.x, tc.w, &Options{Demean: true})
+			v, err = Variances(v, tc.x, tc.w, &Options{Demean: true})
 			require.NoError(t, err)
 			// pandas 1.5.3: df.ewm(halflife=10, adjust=A).var(bias=True)
 			require.InDeltaSlice(t, tc.ref.VarBiased, v, tc.tol*maxAbs(tc.ref.VarBiased))
 
-			mu, err := MeansTo(nil, tc.x, tc.w, nil)
+			mu, err := Means(nil, tc.x, tc.w, nil)
 			require.NoError(t, err)
 			// pandas 1.5.3: df.ewm(halflife=10, adjust=A).mean()
 			require.InDeltaSlice(t, tc.ref.Mean, mu, tc.tol*maxAbs(tc.ref.Mean))
@@ -93,10 +93,10 @@ func maxAbs(a []float64) float64 {
 	return m
 }
 
-// TestStatsmodelsHAC checks NeweyWestTo with equal weights, zero mean and
+// TestStatsmodelsHAC checks NeweyWest with equal weights, zero mean and
 // complete data against statsmodels 0.13.5
 // sandwich_covariance.S_hac_simple(x, nlags=L), which is Γ_0 + Σ b_j(Γ_j+Γ_jᵀ)
-// with unnormalised sums: it equals T times NeweyWestTo.
+// with unnormalised sums: it equals T times NeweyWest.
 func TestStatsmodelsHAC(t *testing.T) {
 	f := loadFixture(t)
 	x := matrixOf(f.Full)
@@ -114,7 +114,7 @@ func TestStatsmodelsHAC(t *testing.T) {
 	} {
 		t.Run(tc.name, func(t *testing.T) {
 			var got mat.SymDense
-			rep, err := NeweyWestTo(&got, x, nil, tc.lags, nil)
+			_, rep, err := NeweyWest(&got, x, nil, tc.lags, nil)
 			require.NoError(t, err)
 			got.ScaleSym(float64(rows), &got)
 			requireSymClose(t, symOf(tc.want), &got, tc.tol, tc.name)

@@ -75,7 +75,7 @@ func TestCovarianceProperties(t *testing.T) {
 			worig := append([]float64(nil), w...)
 			o := &Options{Demean: tc.demean}
 			var c mat.SymDense
-			rep, err := CovarianceTo(&c, x, w, o)
+			_, rep, err := Covariance(&c, x, w, o)
 			require.NoError(t, err)
 			require.True(t, sameBits(orig, x), "input unchanged")
 			require.Equal(t, worig, w, "weights unchanged")
@@ -92,15 +92,15 @@ func TestCovarianceProperties(t *testing.T) {
 				scaled[i] = 3 * w[i]
 			}
 			var c2 mat.SymDense
-			_, err = CovarianceTo(&c2, x, scaled, o)
+			_, _, err = Covariance(&c2, x, scaled, o)
 			require.NoError(t, err)
 			relClose(t, &c, &c2, 1e-13, "weights scale-free")
-			_, err = CovarianceTo(&c2, x, w, o)
+			_, _, err = Covariance(&c2, x, w, o)
 			require.NoError(t, err)
 			require.True(t, mat.Equal(&c, &c2), "dst reuse")
 
 			var r mat.SymDense
-			_, err = CorrelationTo(&r, x, w, o)
+			_, _, err = Correlation(&r, x, w, o)
 			require.NoError(t, err)
 			for i := 0; i < tc.n; i++ {
 				require.Equal(t, 1.0, r.At(i, i))
@@ -118,7 +118,7 @@ func TestCovarianceProperties(t *testing.T) {
 				}
 			}
 
-			v, err := VariancesTo(nil, x, w, o)
+			v, err := Variances(nil, x, w, o)
 			require.NoError(t, err)
 			for i := range v {
 				require.InDelta(t, c.At(i, i), v[i], 1e-13*v[i], "diagonal = variance")
@@ -152,11 +152,11 @@ func TestCompleteCase(t *testing.T) {
 	}
 	o := &Options{CompleteCase: true, Demean: true}
 	var a, b mat.SymDense
-	rep, err := CovarianceTo(&a, x, w, o)
+	_, rep, err := Covariance(&a, x, w, o)
 	require.NoError(t, err)
 	require.Equal(t, len(keep), rep.Used)
 	require.False(t, rep.Checked, "complete-case is PSD by construction")
-	_, err = CovarianceTo(&b, sub, sw, &Options{Demean: true})
+	_, _, err = Covariance(&b, sub, sw, &Options{Demean: true})
 	require.NoError(t, err)
 	relClose(t, &b, &a, 1e-14, "complete case")
 }
@@ -183,19 +183,19 @@ func TestPairwiseRepair(t *testing.T) {
 		}
 	}
 	var c, r mat.SymDense
-	rep, err := CovarianceTo(&c, x, nil, nil)
+	_, rep, err := Covariance(&c, x, nil, nil)
 	require.NoError(t, err)
 	require.NotNil(t, rep.Repair)
 	require.Less(t, rep.Repair.MinEigenvalue, 0.0)
 	require.Equal(t, 1, rep.Repair.Clipped)
 	require.Greater(t, rep.Repair.MaxChange, 0.0)
 	require.GreaterOrEqual(t, minEigen(t, &c), -1e-15*mat.Trace(&c))
-	v, err := VariancesTo(nil, x, nil, nil)
+	v, err := Variances(nil, x, nil, nil)
 	require.NoError(t, err)
 	for i := range v {
 		require.InDelta(t, v[i], c.At(i, i), 1e-15, "diagonal kept")
 	}
-	rep, err = CorrelationTo(&r, x, nil, nil)
+	_, rep, err = Correlation(&r, x, nil, nil)
 	require.NoError(t, err)
 	require.NotNil(t, rep.Repair)
 	for i := 0; i < 3; i++ {
@@ -217,47 +217,115 @@ func TestBadInput(t *testing.T) {
 	}{
 		{name: "Inf value", x: mat.NewDense(3, 2, []float64{0.01, 0, math.Inf(1), 0, 0.02, 0.01}), err: ErrNonFinite},
 		{name: "all-missing column", x: mat.NewDense(3, 2, []float64{0.01, nan, 0.02, nan, 0.03, nan}), err: ErrAllMissing},
-		{name: "one observation", x: mat.NewDense(3, 2, []float64{0.01, 0.01, 0.02, nan, 0.03, nan}), err: ErrTooFew},
-		{name: "pair never together", x: mat.NewDense(4, 2, []float64{0.01, nan, 0.02, nan, nan, 0.01, nan, 0.02}), err: ErrTooFew},
-		{name: "one row", x: mat.NewDense(1, 2, []float64{0.01, 0.02}), err: ErrTooFew},
+		{name: "one observation", x: mat.NewDense(3, 2, []float64{0.01, 0.01, 0.02, nan, 0.03, nan}), err: ErrTooFewObs},
+		{name: "pair never together", x: mat.NewDense(4, 2, []float64{0.01, nan, 0.02, nan, nan, 0.01, nan, 0.02}), err: ErrTooFewObs},
+		{name: "one row", x: mat.NewDense(1, 2, []float64{0.01, 0.02}), err: ErrTooFewObs},
 		{name: "negative weight", x: good, w: []float64{1, -1, 1, 1}, err: ErrWeight},
 		{name: "NaN weight", x: good, w: []float64{1, nan, 1, 1}, err: ErrWeight},
 		{name: "below minimum n_eff", x: good, o: &Options{MinEffectiveObs: 10}, err: ErrEffectiveObs},
 	} {
 		t.Run(tc.name, func(t *testing.T) {
-			_, err := CovarianceTo(&c, tc.x, tc.w, tc.o)
+			_, _, err := Covariance(&c, tc.x, tc.w, tc.o)
 			require.ErrorIs(t, err, tc.err)
 			var e *Error
 			require.ErrorAs(t, err, &e)
 			require.NotEmpty(t, err.Error())
 			if tc.name != "pair never together" {
-				_, err = VariancesTo(nil, tc.x, tc.w, tc.o)
+				_, err = Variances(nil, tc.x, tc.w, tc.o)
 				require.ErrorIs(t, err, tc.err)
 			}
 		})
 	}
 	constant := mat.NewDense(4, 2, []float64{0.01, 0, -0.01, 0, 0.02, 0, 0.0, 0})
-	_, err := CorrelationTo(&c, constant, nil, nil)
+	_, _, err := Correlation(&c, constant, nil, nil)
 	require.ErrorIs(t, err, ErrZeroVariance)
-	_, err = CovarianceTo(&c, constant, nil, nil)
+	_, _, err = Covariance(&c, constant, nil, nil)
 	require.NoError(t, err, "a constant column has a covariance, zero")
 	require.Zero(t, c.At(1, 1))
-	_, err = Estimate(&c, good, Settings{VolHalfLife: 5})
+	_, _, err = Estimate(&c, good, Settings{VolHalfLife: 5})
 	require.ErrorIs(t, err, ErrHalfLife)
-	_, err = NeweyWestTo(&c, good, nil, 4, nil)
+	_, _, err = NeweyWest(&c, good, nil, 4, nil)
 	require.ErrorIs(t, err, ErrLags)
-	_, err = NeweyWestTo(&c, good, nil, -2, nil)
+	_, _, err = NeweyWest(&c, good, nil, -2, nil)
 	require.ErrorIs(t, err, ErrLags)
 }
 
 func TestShapePanics(t *testing.T) {
 	x := mat.NewDense(5, 3, nil)
-	require.PanicsWithValue(t, mat.ErrShape, func() { _, _ = CovarianceTo(mat.NewSymDense(2, nil), x, nil, nil) })
-	require.PanicsWithValue(t, mat.ErrShape, func() { _, _ = CovarianceTo(nil, x, nil, nil) })
-	require.PanicsWithValue(t, mat.ErrShape, func() { _, _ = CorrelationTo(&mat.SymDense{}, x, make([]float64, 4), nil) })
-	require.PanicsWithValue(t, mat.ErrShape, func() { _, _ = VariancesTo(make([]float64, 2), x, nil, nil) })
-	require.PanicsWithValue(t, mat.ErrShape, func() { _, _ = MeansTo(nil, x, make([]float64, 6), nil) })
-	require.PanicsWithValue(t, mat.ErrShape, func() { _, _ = Estimate(mat.NewSymDense(4, nil), x, Settings{VolHalfLife: 1, CorrHalfLife: 1}) })
+	require.PanicsWithValue(t, mat.ErrShape, func() { _, _, _ = Covariance(mat.NewSymDense(2, nil), x, nil, nil) })
+	require.PanicsWithValue(t, mat.ErrShape, func() { _, _, _ = Correlation(&mat.SymDense{}, x, make([]float64, 4), nil) })
+	require.PanicsWithValue(t, mat.ErrShape, func() { _, _, _ = NeweyWest(mat.NewSymDense(4, nil), x, nil, 1, nil) })
+	require.PanicsWithValue(t, mat.ErrShape, func() { _, _ = Variances(make([]float64, 2), x, nil, nil) })
+	require.PanicsWithValue(t, mat.ErrShape, func() { _, _ = Means(nil, x, make([]float64, 6), nil) })
+	require.PanicsWithValue(t, mat.ErrShape, func() { _, _ = Means(make([]float64, 4), x, nil, nil) })
+	require.PanicsWithValue(t, mat.ErrShape, func() { _, _, _ = Estimate(mat.NewSymDense(4, nil), x, Settings{VolHalfLife: 1, CorrHalfLife: 1}) })
+	require.PanicsWithValue(t, mat.ErrShape, func() { _, _ = Weights(make([]float64, 3), 4, 10) })
+}
+
+// TestNilDst: a nil dst is allocated and an empty one sized, each giving the
+// same numbers as a dst of the right size (the gonum convention of
+// DEVELOPERS.md), for every function and method that fills a dst.
+func TestNilDst(t *testing.T) {
+	rng := rand.New(rand.NewPCG(4, 4))
+	x := randomPanel(rng, 60, 4, 0.1)
+	w, err := Weights(nil, 60, 20)
+	require.NoError(t, err)
+	o := &Options{Demean: true}
+	sym := map[string]func(dst *mat.SymDense) (*mat.SymDense, *Report, error){
+		"Covariance":  func(d *mat.SymDense) (*mat.SymDense, *Report, error) { return Covariance(d, x, w, o) },
+		"Correlation": func(d *mat.SymDense) (*mat.SymDense, *Report, error) { return Correlation(d, x, w, o) },
+		"NeweyWest":   func(d *mat.SymDense) (*mat.SymDense, *Report, error) { return NeweyWest(d, x, w, 2, o) },
+		"Estimate": func(d *mat.SymDense) (*mat.SymDense, *Report, error) {
+			return Estimate(d, x, Settings{VolHalfLife: 10, CorrHalfLife: 30, Options: *o})
+		},
+	}
+	r, err := NewRecursive(4, RecursiveSettings{HalfLife: 20, Options: *o})
+	require.NoError(t, err)
+	for i := 0; i < 60; i++ {
+		require.NoError(t, r.Update(x.RawRowView(i)))
+	}
+	sym["Recursive.CovarianceTo"] = r.CovarianceTo
+	sym["Recursive.CorrelationTo"] = r.CorrelationTo
+	for name, f := range sym {
+		t.Run(name, func(t *testing.T) {
+			sized := mat.NewSymDense(4, nil)
+			got, _, err := f(sized)
+			require.NoError(t, err)
+			require.Same(t, sized, got, "a dst of the right size is filled and returned")
+			alloc, _, err := f(nil)
+			require.NoError(t, err)
+			require.Equal(t, sized.RawSymmetric().Data, alloc.RawSymmetric().Data)
+			var empty mat.SymDense
+			got, _, err = f(&empty)
+			require.NoError(t, err)
+			require.Same(t, &empty, got)
+			require.Equal(t, sized.RawSymmetric().Data, empty.RawSymmetric().Data)
+			require.PanicsWithValue(t, mat.ErrShape, func() { _, _, _ = f(mat.NewSymDense(3, nil)) })
+		})
+	}
+	vec := map[string]func(dst []float64) ([]float64, error){
+		"Means":                 func(d []float64) ([]float64, error) { return Means(d, x, w, o) },
+		"Variances":             func(d []float64) ([]float64, error) { return Variances(d, x, w, o) },
+		"Recursive.VariancesTo": r.VariancesTo,
+		"Weights":               func(d []float64) ([]float64, error) { return Weights(d, 4, 10) },
+		"DecayWeights":          func(d []float64) ([]float64, error) { return DecayWeights(d, 4, 0.9) },
+		"RecursionWeights":      func(d []float64) ([]float64, error) { return RecursionWeights(d, 4, 0.9) },
+	}
+	for name, f := range vec {
+		t.Run(name, func(t *testing.T) {
+			sized := make([]float64, 4)
+			got, err := f(sized)
+			require.NoError(t, err)
+			require.Same(t, &sized[0], &got[0])
+			alloc, err := f(nil)
+			require.NoError(t, err)
+			require.Equal(t, sized, alloc)
+			alloc, err = f([]float64{})
+			require.NoError(t, err)
+			require.Equal(t, sized, alloc)
+			require.PanicsWithValue(t, mat.ErrShape, func() { _, _ = f(make([]float64, 5)) })
+		})
+	}
 }
 
 // TestEstimate checks Σ = D·C·D against its parts, and that with equal
@@ -267,13 +335,13 @@ func TestEstimate(t *testing.T) {
 	x := randomPanel(rng, 120, 6, 0.1)
 	s := Settings{VolHalfLife: 20, CorrHalfLife: 60, Options: Options{Demean: true}}
 	var sig, c mat.SymDense
-	rep, err := Estimate(&sig, x, s)
+	_, rep, err := Estimate(&sig, x, s)
 	require.NoError(t, err)
 	wv, _ := Weights(nil, 120, 20)
 	wc, _ := Weights(nil, 120, 60)
-	v, err := VariancesTo(nil, x, wv, &s.Options)
+	v, err := Variances(nil, x, wv, &s.Options)
 	require.NoError(t, err)
-	_, err = CorrelationTo(&c, x, wc, &s.Options)
+	_, _, err = Correlation(&c, x, wc, &s.Options)
 	require.NoError(t, err)
 	for i := 0; i < 6; i++ {
 		for j := 0; j < 6; j++ {
@@ -287,10 +355,10 @@ func TestEstimate(t *testing.T) {
 	var cov mat.SymDense
 	for _, lags := range []int{0, 3, AutoLags} {
 		same := Settings{VolHalfLife: 30, CorrHalfLife: 30, NeweyWestLags: lags}
-		_, err = Estimate(&sig, full, same)
+		_, _, err = Estimate(&sig, full, same)
 		require.NoError(t, err)
 		w, _ := Weights(nil, 120, 30)
-		rep, err = NeweyWestTo(&cov, full, w, lags, nil)
+		_, rep, err = NeweyWest(&cov, full, w, lags, nil)
 		require.NoError(t, err)
 		relClose(t, &cov, &sig, 1e-12, "equal half-lives")
 		if lags == AutoLags {
@@ -315,9 +383,9 @@ func TestNeweyWestWeighted(t *testing.T) {
 	x := randomPanel(rng, 50, 3, 0)
 	w, _ := Weights(nil, 50, 10)
 	var got mat.SymDense
-	_, err := NeweyWestTo(&got, x, w, 3, &Options{Demean: true})
+	_, _, err := NeweyWest(&got, x, w, 3, &Options{Demean: true})
 	require.NoError(t, err)
-	mu, _ := MeansTo(nil, x, w, nil)
+	mu, _ := Means(nil, x, w, nil)
 	want := naiveCov(x, w, true)
 	for j := 1; j <= 3; j++ {
 		b := 1 - float64(j)/4
@@ -341,9 +409,9 @@ func TestDeterministic(t *testing.T) {
 	x := randomPanel(rng, 300, 250, 0.05)
 	w, _ := Weights(nil, 300, 40)
 	var a, b mat.SymDense
-	_, err := CovarianceTo(&a, x, w, &Options{Demean: true})
+	_, _, err := Covariance(&a, x, w, &Options{Demean: true})
 	require.NoError(t, err)
-	_, err = CovarianceTo(&b, x, w, &Options{Demean: true})
+	_, _, err = Covariance(&b, x, w, &Options{Demean: true})
 	require.NoError(t, err)
 	require.True(t, mat.Equal(&a, &b))
 }

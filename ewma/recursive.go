@@ -18,9 +18,9 @@ type RecursiveSettings struct {
 	// vectors, so that the oldest can be taken out when a new day arrives.
 	Window int
 	// VariancesOnly keeps the variances alone: O(N) memory and O(N) per
-	// update, and CovarianceTo and CorrelationTo panic.
+	// update, and Covariance and Correlation panic.
 	VariancesOnly bool
-	Options       // missing data, mean and bias handling, as for CovarianceTo
+	Options       // missing data, mean and bias handling, as for Covariance
 }
 
 // Recursive is the state of an exponentially weighted covariance that is
@@ -28,7 +28,7 @@ type RecursiveSettings struct {
 // calls Update with today's return vector and reads today's covariance, all
 // without recomputing history.
 //
-// The state holds, for every pair i ≤ j, the sums of CovarianceTo with the
+// The state holds, for every pair i ≤ j, the sums of Covariance with the
 // unnormalised weights λ^a of a day of age a (today a = 0):
 //
 //	s_ij = Σ λ^a m_i m_j x_i x_j,   wt_ij = Σ λ^a m_i m_j,   w2_ij = Σ λ^(2a) m_i m_j,
@@ -42,7 +42,7 @@ type RecursiveSettings struct {
 //
 // x° being the dropped day's returns, read from the ring of the last Window
 // days that the state keeps (Window × N values). Because the dropped day's
-// own vector is subtracted, the result equals the batch CovarianceTo over the
+// own vector is subtracted, the result equals the batch Covariance over the
 // same window with Weights(Window, HalfLife) up to rounding (tested to 1e-12
 // relative). The subtraction can lose accuracy when a dropped day dominates
 // the sums (a huge return λ^Window-weighted against small ones); rebuilding
@@ -265,80 +265,71 @@ func (r *Recursive) sums() *sums {
 var errVariancesOnly = "ewma: Recursive state keeps variances only"
 
 // CovarianceTo sets dst to the covariance of the days in the state, the
-// same estimate as the batch CovarianceTo over those days with
-// Weights(Len, HalfLife) and the state's Options, and returns diagnostics.
+// same estimate as the batch Covariance over those days with
+// Weights(Len, HalfLife) and the state's Options, and returns dst with
+// diagnostics.
 // With missing values (and CompleteCase off) the result is checked and, if
-// needed, repaired as in CovarianceTo, which costs O(N³); otherwise the cost
+// needed, repaired as in Covariance, which costs O(N³); otherwise the cost
 // is O(N²).
 //
-// It panics with mat.ErrShape if dst is nil or neither empty nor N×N, and
+// A nil or empty dst is allocated. It panics with mat.ErrShape if dst is
+// neither nil, empty nor N×N, and
 // with a string value if the state keeps variances only. Errors as for the
-// batch CovarianceTo.
-func (r *Recursive) CovarianceTo(dst *mat.SymDense) (*Report, error) {
+// batch Covariance.
+func (r *Recursive) CovarianceTo(dst *mat.SymDense) (*mat.SymDense, *Report, error) {
 	if r.varOnly {
 		panic(errVariancesOnly)
 	}
-	if dst == nil {
-		panic(mat.ErrShape)
-	}
 	dst = dense.SizeSym(dst, r.n)
 	if err := r.ready(); err != nil {
-		return nil, err
+		return dst, nil, err
 	}
 	m := r.sums()
 	rep := &Report{}
 	if err := finishCov(dst, m, r.opts, r.opts.Unbiased, rep); err != nil {
-		return rep, err
+		return dst, rep, err
 	}
 	if r.missing > 0 {
 		rep.Checked = true
 		rep.Repair = makePSD(dst)
 	}
-	return rep, nil
+	return dst, rep, nil
 }
 
 // CorrelationTo sets dst to the correlation of the days in the state, as the
-// batch CorrelationTo would over those days. Panics, errors and cost as for
-// CovarianceTo, plus ErrZeroVariance.
-func (r *Recursive) CorrelationTo(dst *mat.SymDense) (*Report, error) {
+// batch Correlation would over those days. Panics, errors and cost as for
+// Covariance, plus ErrZeroVariance.
+func (r *Recursive) CorrelationTo(dst *mat.SymDense) (*mat.SymDense, *Report, error) {
 	if r.varOnly {
 		panic(errVariancesOnly)
 	}
-	if dst == nil {
-		panic(mat.ErrShape)
-	}
 	dst = dense.SizeSym(dst, r.n)
 	if err := r.ready(); err != nil {
-		return nil, err
+		return dst, nil, err
 	}
 	m := r.sums()
 	rep := &Report{}
 	if err := finishCov(dst, m, r.opts, false, rep); err != nil {
-		return rep, err
+		return dst, rep, err
 	}
 	if err := correlate(dst, m); err != nil {
-		return rep, err
+		return dst, rep, err
 	}
 	if r.missing > 0 {
 		rep.Checked = true
 		rep.Repair = makePSD(dst)
 	}
-	return rep, nil
+	return dst, rep, nil
 }
 
 // VariancesTo sets dst to the variances of the days in the state, as the
-// batch VariancesTo would over those days, and returns dst. A nil dst is
-// allocated. Cost O(N). It panics with mat.ErrShape if dst is neither nil nor
-// of length N; errors as for the batch VariancesTo.
+// batch Variances would over those days, and returns dst. A nil or empty
+// dst is allocated. Cost O(N). It panics with mat.ErrShape if dst is neither
+// nil, empty nor of length N; errors as for the batch Variances.
 func (r *Recursive) VariancesTo(dst []float64) ([]float64, error) {
-	if dst != nil && len(dst) != r.n {
-		panic(mat.ErrShape)
-	}
+	dst = dense.SizeVec(dst, r.n)
 	if err := r.ready(); err != nil {
 		return dst, err
-	}
-	if dst == nil {
-		dst = make([]float64, r.n)
 	}
 	step := r.n + 1
 	if r.varOnly {
@@ -351,7 +342,7 @@ func (r *Recursive) VariancesTo(dst []float64) ([]float64, error) {
 			return dst, errAt(ErrAllMissing, -1, i, -1, 0)
 		}
 		if cnt < 2 {
-			return dst, errAt(ErrTooFew, -1, i, -1, cnt)
+			return dst, errAt(ErrTooFewObs, -1, i, -1, cnt)
 		}
 		eff := wt * wt / w2
 		if r.opts.MinEffectiveObs > 0 && eff < r.opts.MinEffectiveObs {
@@ -387,7 +378,7 @@ func (r *Recursive) ready() error {
 		if c := r.cnt[i*step]; c == 0 {
 			return errAt(ErrAllMissing, -1, i, -1, 0)
 		} else if c < 2 {
-			return errAt(ErrTooFew, -1, i, -1, c)
+			return errAt(ErrTooFewObs, -1, i, -1, c)
 		}
 	}
 	return nil

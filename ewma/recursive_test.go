@@ -72,8 +72,8 @@ func TestRecursiveEqualsBatch(t *testing.T) {
 				win := x.Slice(lo, day+1, 0, n)
 				w, err := Weights(nil, day+1-lo, h)
 				require.NoError(t, err)
-				_, berr := CovarianceTo(&want, win, w, &tc.opts)
-				_, rerr := r.CovarianceTo(&got)
+				_, _, berr := Covariance(&want, win, w, &tc.opts)
+				_, _, rerr := r.CovarianceTo(&got)
 				if berr != nil {
 					// Too few observations early on: both must say so.
 					require.Error(t, rerr, "day %d", day)
@@ -82,14 +82,14 @@ func TestRecursiveEqualsBatch(t *testing.T) {
 				require.NoError(t, rerr, "day %d", day)
 				relClose(t, &want, &got, tc.tol, "covariance")
 
-				_, berr = CorrelationTo(&wantC, win, w, &tc.opts)
-				_, rerr = r.CorrelationTo(&gotC)
+				_, _, berr = Correlation(&wantC, win, w, &tc.opts)
+				_, _, rerr = r.CorrelationTo(&gotC)
 				require.Equal(t, berr == nil, rerr == nil)
 				if berr == nil {
 					relClose(t, &wantC, &gotC, tc.tol, "correlation")
 				}
 
-				wv, err := VariancesTo(nil, win, w, &tc.opts)
+				wv, err := Variances(nil, win, w, &tc.opts)
 				require.NoError(t, err)
 				gv, err := v.VariancesTo(nil)
 				require.NoError(t, err)
@@ -135,9 +135,9 @@ func TestRecursiveCodec(t *testing.T) {
 		require.Equal(t, va, vb)
 		if !s.VariancesOnly {
 			var ca, cb mat.SymDense
-			_, err = a.CovarianceTo(&ca)
+			_, _, err = a.CovarianceTo(&ca)
 			require.NoError(t, err)
-			_, err = b.CovarianceTo(&cb)
+			_, _, err = b.CovarianceTo(&cb)
 			require.NoError(t, err)
 			require.True(t, mat.Equal(&ca, &cb))
 		}
@@ -155,14 +155,14 @@ func TestRecursiveMisuse(t *testing.T) {
 	require.ErrorIs(t, r.Update([]float64{0, math.Inf(1), 0}), ErrNonFinite)
 	require.Equal(t, 0, r.Days(), "a rejected day leaves the state unchanged")
 	var c mat.SymDense
-	_, err = r.CovarianceTo(&c)
+	_, _, err = r.CovarianceTo(&c)
 	require.ErrorIs(t, err, ErrAllMissing)
 	require.NoError(t, r.Update([]float64{0.01, 0.02, 0.03}))
-	_, err = r.CovarianceTo(&c)
-	require.ErrorIs(t, err, ErrTooFew)
+	_, _, err = r.CovarianceTo(&c)
+	require.ErrorIs(t, err, ErrTooFewObs)
 	v, err := NewRecursive(3, RecursiveSettings{HalfLife: 5, VariancesOnly: true})
 	require.NoError(t, err)
-	require.PanicsWithValue(t, errVariancesOnly, func() { _, _ = v.CovarianceTo(&c) })
+	require.PanicsWithValue(t, errVariancesOnly, func() { _, _, _ = v.CovarianceTo(&c) })
 }
 
 // TestRecursiveUpdateAllocs: the daily update must not allocate.

@@ -122,7 +122,7 @@ func load(x mat.Matrix, w []float64, o Options) (*panelData, error) {
 			return nil, errAt(ErrAllMissing, -1, j, -1, 0)
 		}
 		if c < 2 {
-			return nil, errAt(ErrTooFew, -1, j, -1, float64(c))
+			return nil, errAt(ErrTooFewObs, -1, j, -1, float64(c))
 		}
 	}
 	return d, nil

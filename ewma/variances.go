@@ -2,17 +2,17 @@ package ewma
 
 import (
 	"math"
-	"runtime"
-	"sync"
 
 	"gonum.org/v1/gonum/mat"
+
+	"github.com/riskmodel/riskmodel/internal/dense"
 )
 
 // varianceBlock is the number of columns one worker of variancesDense
 // handles at a time: a block of a row fits in a few cache lines per row.
 const varianceBlock = 256
 
-// variancesDense is VariancesTo's path for a *mat.Dense without
+// variancesDense is Variances's path for a *mat.Dense without
 // CompleteCase. It reads x in place, one block of columns per worker, instead
 // of copying it as the general path does. Per column it performs the same
 // additions in the same order as the general path, so the results are
@@ -92,22 +92,10 @@ func variancesDense(dst []float64, x *mat.Dense, w []float64, o Options) ([]floa
 			}
 		}
 	}
-	var wg sync.WaitGroup
-	blocks := make(chan int)
-	for range min(runtime.GOMAXPROCS(0), (n+varianceBlock-1)/varianceBlock) {
-		wg.Add(1)
-		go func() {
-			defer wg.Done()
-			for j0 := range blocks {
-				column(j0, min(j0+varianceBlock, n))
-			}
-		}()
-	}
-	for j0 := 0; j0 < n; j0 += varianceBlock {
-		blocks <- j0
-	}
-	close(blocks)
-	wg.Wait()
+	dense.Parallel((n+varianceBlock-1)/varianceBlock, func(b int) {
+		j0 := b * varianceBlock
+		column(j0, min(j0+varianceBlock, n))
+	})
 
 	// The general path stops at the first problem in row-major order, a
 	// row's weight before its values.
@@ -128,7 +116,7 @@ func variancesDense(dst []float64, x *mat.Dense, w []float64, o Options) ([]floa
 			return dst, errAt(ErrAllMissing, -1, j, -1, 0)
 		}
 		if c < 2 {
-			return dst, errAt(ErrTooFew, -1, j, -1, float64(c))
+			return dst, errAt(ErrTooFewObs, -1, j, -1, float64(c))
 		}
 	}
 	return finishVariances(dst, ss, tot, tot2, o)
@@ -137,9 +125,6 @@ func variancesDense(dst []float64, x *mat.Dense, w []float64, o Options) ([]floa
 // finishVariances turns the weighted sums of squares into variances, with
 // the effective-observation check and the bias correction of Options.
 func finishVariances(dst, ss, tot, tot2 []float64, o Options) ([]float64, error) {
-	if dst == nil {
-		dst = make([]float64, len(ss))
-	}
 	for j := range dst {
 		eff := tot[j] * tot[j] / tot2[j]
 		if o.MinEffectiveObs > 0 && eff < o.MinEffectiveObs {

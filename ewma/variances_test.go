@@ -11,7 +11,7 @@ import (
 )
 
 // general hides a *mat.Dense behind the mat.Matrix interface, so that
-// VariancesTo takes its general (copying) path.
+// Variances takes its general (copying) path.
 type general struct{ mat.Matrix }
 
 // TestVariancesPathsAgree checks that the in-place path for a *mat.Dense
@@ -35,11 +35,11 @@ func TestVariancesPathsAgree(t *testing.T) {
 	w[5] = 0 // a zero weight is skipped by both paths
 	for _, o := range []*Options{nil, {Demean: true}, {Unbiased: true}, {Demean: true, Unbiased: true}} {
 		for _, wt := range [][]float64{nil, w} {
-			want, err := VariancesTo(nil, general{x}, wt, o)
+			want, err := Variances(nil, general{x}, wt, o)
 			require.NoError(t, err)
 			for _, procs := range []int{1, 2, 8} {
 				prev := runtime.GOMAXPROCS(procs)
-				got, err := VariancesTo(nil, x, wt, o)
+				got, err := Variances(nil, x, wt, o)
 				runtime.GOMAXPROCS(prev)
 				require.NoError(t, err)
 				for j := range want {
@@ -79,12 +79,12 @@ func TestVariancesPathsAgree(t *testing.T) {
 			for i := 1; i < 6; i++ {
 				x.Set(i, 2, math.NaN())
 			}
-		}, ErrTooFew},
+		}, ErrTooFewObs},
 	} {
 		t.Run(tc.name, func(t *testing.T) {
 			y, v := bad(tc.set)
-			_, errFast := VariancesTo(nil, y, v, nil)
-			_, errGeneral := VariancesTo(nil, general{y}, v, nil)
+			_, errFast := Variances(nil, y, v, nil)
+			_, errGeneral := Variances(nil, general{y}, v, nil)
 			require.ErrorIs(t, errFast, tc.want)
 			require.Equal(t, errGeneral.Error(), errFast.Error())
 		})

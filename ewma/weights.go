@@ -1,6 +1,10 @@
 package ewma
 
-import "math"
+import (
+	"math"
+
+	"github.com/riskmodel/riskmodel/internal/dense"
+)
 
 // Decay returns the decay factor λ of a half-life h in periods:
 //
@@ -40,8 +44,8 @@ func HalfLife(lambda float64) float64 {
 //
 //	w_i = λ^(n−1−i) / Σ_k λ^k,   i = 0 … n−1
 //
-// normalised to sum to 1. The result is written to dst when cap(dst) ≥ n and
-// to a new slice otherwise.
+// normalised to sum to 1, and writes them to dst. A nil or empty dst is
+// allocated; a dst of another length than n panics with mat.ErrShape.
 //
 // Weights returns an error wrapping ErrHalfLife if h ≤ 0 or is not finite,
 // and ErrLength if n < 1. Cost O(n).
@@ -68,7 +72,7 @@ func DecayWeights(dst []float64, n int, lambda float64) ([]float64, error) {
 	if n < 1 {
 		return dst, errAt(ErrLength, -1, -1, -1, float64(n))
 	}
-	dst = resize(dst, n)
+	dst = dense.SizeVec(dst, n)
 	// Build from the newest backwards so every power is one multiplication
 	// from its neighbour; the sum is accumulated from the small end.
 	p := 1.0
@@ -104,7 +108,7 @@ func RecursionWeights(dst []float64, n int, lambda float64) ([]float64, error) {
 	if n < 1 {
 		return dst, errAt(ErrLength, -1, -1, -1, float64(n))
 	}
-	dst = resize(dst, n)
+	dst = dense.SizeVec(dst, n)
 	p := 1.0
 	for i := n - 1; i >= 1; i-- {
 		dst[i] = (1 - lambda) * p
@@ -138,10 +142,3 @@ func EffectiveObs(w []float64) float64 {
 func validHalfLife(h float64) bool { return h > 0 && !math.IsInf(h, 1) && !math.IsNaN(h) }
 
 func validDecay(l float64) bool { return l > 0 && l <= 1 }
-
-func resize(dst []float64, n int) []float64 {
-	if cap(dst) >= n {
-		return dst[:n]
-	}
-	return make([]float64, n)
-}

@@ -51,11 +51,11 @@ func TestWeights(t *testing.T) {
 	require.InDelta(t, 2, w[49]/w[39], 1e-13, "ten periods back, half the weight")
 
 	// dst reuse: the same backing array, the same numbers.
-	buf := make([]float64, 0, 64)
+	buf := make([]float64, 50)
 	w2, err := Weights(buf, 50, 10)
 	require.NoError(t, err)
 	require.Equal(t, w, w2)
-	require.Equal(t, &buf[:1][0], &w2[0])
+	require.Same(t, &buf[0], &w2[0])
 
 	eq, err := DecayWeights(nil, 4, 1)
 	require.NoError(t, err)

@@ -13,8 +13,8 @@ var (
 	ErrEmptyDate = errors.New("factor: date has no observations")
 	// ErrTooManyFactors: K ≥ min(N, T), or K above the rank of the data.
 	ErrTooManyFactors = errors.New("factor: too many factors")
-	// ErrTooFewData: fewer than two dates or fewer than two assets.
-	ErrTooFewData = errors.New("factor: too few dates or assets")
+	// ErrTooFewObs: fewer than two dates or fewer than two assets.
+	ErrTooFewObs = errors.New("factor: too few dates or assets")
 	// ErrSettings: a setting is missing or out of range.
 	ErrSettings = errors.New("factor: invalid settings")
 	// ErrNotPSD: a factor covariance is not symmetric positive semidefinite.

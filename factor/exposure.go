@@ -11,12 +11,6 @@ import (
 	"github.com/riskmodel/riskmodel/ewma"
 )
 
-// Method names recorded in Info.Method by FitExposure and FitHybrid.
-const (
-	MethodExposure = "exposure"
-	MethodHybrid   = "hybrid"
-)
-
 // Errors of the exposure-based model, wrapped with the date (row) and the
 // sector, characteristic or asset concerned; test with errors.Is.
 var (
@@ -191,7 +185,7 @@ func newExposureSpec(x mat.Matrix, s ExposureSettings) (*exposureSpec, error) {
 	p.first = s.Lookback()
 	if t-p.first < 2 || n < 2 {
 		return nil, fmt.Errorf("%w: T = %d, N = %d; the styles' look-back takes %d dates and at least 2 must remain",
-			ErrTooFewData, t, n, p.first)
+			ErrTooFewObs, t, n, p.first)
 	}
 
 	set := map[string]bool{}
@@ -339,7 +333,7 @@ type CrossSection struct {
 //
 // FitExposure panics with mat.ErrShape if Sectors, Caps (or StaticCaps),
 // a characteristic, Groups or Assets does not match the returns' shape.
-// It returns an error wrapping ErrSettings for bad settings, ErrTooFewData
+// It returns an error wrapping ErrSettings for bad settings, ErrTooFewObs
 // when fewer than 2 dates remain after the look-back or a date has no more
 // assets than parameters, ErrNonFinite for an Inf return or characteristic,
 // ErrCap for a bad cap, ErrEmptySector for a sector with no member present
@@ -380,7 +374,7 @@ func (p *exposureSpec) model(b *mat.Dense, reg *Regression, method, reason strin
 	_, k := reg.FactorReturns.Dims()
 	ret := reg.FactorReturns.Slice(p.first, p.t, 0, k)
 	f := &mat.SymDense{}
-	if _, err := ewma.Estimate(f, ret, p.s.Covariance); err != nil {
+	if _, _, err := ewma.Estimate(f, ret, p.s.Covariance); err != nil {
 		return nil, fmt.Errorf("factor: factor covariance: %w", err)
 	}
 	resid := reg.SpecificReturns.Slice(p.first, p.t, 0, p.n).(*mat.Dense)

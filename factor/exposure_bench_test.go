@@ -76,7 +76,7 @@ func BenchmarkExposure(b *testing.B) {
 		})
 		b.Run(name+"/statistical-K=20", func(b *testing.B) {
 			b.ReportAllocs()
-			st := factor.Settings{K: 20, Method: factor.Randomized, Covariance: s.Covariance, SpecificHalfLife: s.SpecificHalfLife}
+			st := factor.Settings{K: 20, Solver: factor.SolverRandomized, Covariance: s.Covariance, SpecificHalfLife: s.SpecificHalfLife}
 			for i := 0; i < b.N; i++ {
 				if _, err := factor.Fit(x, st); err != nil {
 					b.Fatal(err)

@@ -153,7 +153,7 @@ func TestExposureRecoversDemoFactors(t *testing.T) {
 	// loss, and portfolio risks close.
 	loss := frobeniusLoss(m, in.sigma)
 	var sample mat.SymDense
-	_, err = ewma.CovarianceTo(&sample, in.x, nil, &ewma.Options{Demean: true})
+	_, _, err = ewma.Covariance(&sample, in.x, nil, &ewma.Options{Demean: true})
 	require.NoError(t, err)
 	sl := frobeniusLoss(&sample, in.sigma)
 	t.Logf("Frobenius loss: exposure model %.4f, sample covariance %.4f", loss, sl)

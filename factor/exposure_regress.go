@@ -137,7 +137,7 @@ func (c *crossSolver) solve(x mat.Matrix, t int, reg *Regression) error {
 		np = k // one sector: no collinearity, no constraint
 	}
 	if n <= np {
-		return fmt.Errorf("%w: date %d has %d assets for %d parameters", ErrTooFewData, t, n, np)
+		return fmt.Errorf("%w: date %d has %d assets for %d parameters", ErrTooFewObs, t, n, np)
 	}
 	// Reduced design X·C: sector q < L gets S_q − (c_q/c_L)·S_L.
 	last := s - 1

@@ -238,7 +238,7 @@ func TestExposureBadInput(t *testing.T) {
 		{name: "no covariance half-life", edit: func(x *mat.Dense, s *factor.ExposureSettings) { s.Covariance.VolHalfLife = 0 }, err: factor.ErrSettings},
 		{name: "winsor below 1", edit: func(x *mat.Dense, s *factor.ExposureSettings) { s.Winsor = 0.5 }, err: factor.ErrSettings},
 		{name: "skip beyond window", edit: func(x *mat.Dense, s *factor.ExposureSettings) { s.MomentumSkip = 10 }, err: factor.ErrSettings},
-		{name: "look-back too long", edit: func(x *mat.Dense, s *factor.ExposureSettings) { s.MomentumWindow = 39 }, err: factor.ErrTooFewData},
+		{name: "look-back too long", edit: func(x *mat.Dense, s *factor.ExposureSettings) { s.MomentumWindow = 39 }, err: factor.ErrTooFewObs},
 		{name: "duplicate factor name", edit: func(x *mat.Dense, s *factor.ExposureSettings) {
 			s.Characteristics = []factor.Characteristic{{Name: "size", Static: make([]float64, 24)}}
 		}, err: factor.ErrSettings, words: []string{`"size"`}},

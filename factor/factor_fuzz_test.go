@@ -20,48 +20,19 @@ import (
 // semidefinite. The seed corpora run in every `go test`.
 
 var sentinels = []error{ErrNonFinite, ErrNoObservations, ErrEmptyDate, ErrTooManyFactors,
-	ErrTooFewData, ErrSettings, ErrNotPSD, ErrSpecificVariance, ErrPrevious, ErrSingular, ErrEmptySector, ErrCap,
-	ewma.ErrHalfLife, ewma.ErrNonFinite, ewma.ErrAllMissing, ewma.ErrTooFew, ewma.ErrZeroVariance,
+	ErrTooFewObs, ErrSettings, ErrNotPSD, ErrSpecificVariance, ErrPrevious, ErrSingular, ErrEmptySector, ErrCap,
+	ewma.ErrHalfLife, ewma.ErrNonFinite, ewma.ErrAllMissing, ewma.ErrTooFewObs, ewma.ErrZeroVariance,
 	ewma.ErrEffectiveObs, ewma.ErrLags, ewma.ErrWeight,
 	shrink.ErrNonFinite, shrink.ErrTooFewObs, shrink.ErrZeroVariance, shrink.ErrNoEigen, shrink.ErrOverflow}
 
-type fuzzBytes []byte
+// specials: the top byte codes decode to NaN (missing) and ±Inf
+// (fuzzcheck.Bytes.Value); the seed corpora depend on it.
+const specials = 3
 
-func (b *fuzzBytes) next() byte {
-	if len(*b) == 0 {
-		return 0
-	}
-	c := (*b)[0]
-	*b = (*b)[1:]
-	return c
-}
-
-// value decodes one byte: NaN (missing), ±Inf, or a multiple of 0.01 in
-// [−1.27, 1.27] (returns below −1 are fine for the math packages).
-func (b *fuzzBytes) value() float64 {
-	switch c := b.next(); c {
-	case 0xff:
-		return math.NaN()
-	case 0xfe:
-		return math.Inf(1)
-	case 0xfd:
-		return math.Inf(-1)
-	default:
-		return float64(int8(c)) / 100
-	}
-}
-
-// matrix decodes a T×N matrix with 2 ≤ T ≤ 17, 2 ≤ N ≤ 9.
-func (b *fuzzBytes) matrix() *mat.Dense {
-	t, n := 2+int(b.next()%16), 2+int(b.next()%8)
-	scale := math.Pow(10, float64(int(b.next()%8)-6))
-	x := mat.NewDense(t, n, nil)
-	for i := 0; i < t; i++ {
-		for j := 0; j < n; j++ {
-			x.Set(i, j, b.value()*scale)
-		}
-	}
-	return x
+// fuzzMatrix decodes a T×N matrix with 2 ≤ T ≤ 17, 2 ≤ N ≤ 9.
+func fuzzMatrix(b *fuzzcheck.Bytes) *mat.Dense {
+	t, n := 2+int(b.Next()%16), 2+int(b.Next()%8)
+	return b.Dense(t, n, b.Scale(-6, 8), specials)
 }
 
 func checkErr(t *testing.T, err error) {
@@ -127,21 +98,21 @@ func FuzzFit(f *testing.F) {
 	f.Add([]byte{15, 1, 5, 10, 10, 10, 10, 1, 2, 3, 4, 5, 6, 7, 8, 9, 10, 0, 2, 3, 7, 8, 9})
 	f.Add([]byte{2, 2, 4, 0xfe, 1, 2, 3, 4, 5, 6, 7, 0, 0, 1, 1, 1})
 	f.Fuzz(func(t *testing.T, data []byte) {
-		b := fuzzBytes(data)
-		c := b.next()
+		b := fuzzcheck.Bytes(data)
+		c := b.Next()
 		s := Settings{
 			K:                int(c % 4),
-			Criterion:        Criterion(b.next() % 4),
-			Method:           Method(c / 4 % 3),
-			Seed:             uint64(b.next()),
-			MaxIter:          int(b.next() % 6),
-			SpecificHalfLife: float64(b.next() % 20),
-			Covariance: ewma.Settings{VolHalfLife: float64(b.next() % 20), CorrHalfLife: float64(b.next() % 20),
-				NeweyWestLags: int(b.next()%3) - 1},
+			Criterion:        Criterion(b.Next() % 4),
+			Solver:           Solver(c / 4 % 3),
+			Seed:             uint64(b.Next()),
+			MaxIter:          int(b.Next() % 6),
+			SpecificHalfLife: float64(b.Next() % 20),
+			Covariance: ewma.Settings{VolHalfLife: float64(b.Next() % 20), CorrHalfLife: float64(b.Next() % 20),
+				NeweyWestLags: int(b.Next()%3) - 1},
 			AssumeCentered:   c&64 != 0,
 			NoSpecificShrink: c&128 != 0,
 		}
-		x := b.matrix()
+		x := fuzzMatrix(&b)
 		m, err := Fit(x, s)
 		if err != nil {
 			checkErr(t, err)
@@ -158,18 +129,18 @@ func FuzzFitExposure(f *testing.F) {
 	f.Add([]byte{12, 4, 4, 1, 2, 3, 4, 5, 6, 7, 8, 9, 10, 11, 12, 13, 14, 15, 16, 17, 18, 19, 20, 21, 22, 23, 24, 25, 26, 27, 28, 29, 30, 31, 32, 33, 34, 0, 1, 0, 1, 10, 20, 30, 40, 3, 3, 10, 10, 10})
 	f.Add([]byte{8, 6, 4, 0xff, 2, 3, 4, 5, 6, 7, 8, 9, 10, 11, 12, 13, 14, 15, 0xff, 17, 18, 19, 20, 0, 0, 0, 1, 1, 2, 2, 2, 0, 5, 5, 5, 5, 5, 5, 5, 5, 2, 2, 9, 9, 9})
 	f.Fuzz(func(t *testing.T, data []byte) {
-		b := fuzzBytes(data)
-		vol, mom := int(b.next()%5)-1, int(b.next()%5)-1
-		sh, vh, ch := float64(b.next()%20), float64(b.next()%20), float64(b.next()%20)
-		x := b.matrix()
+		b := fuzzcheck.Bytes(data)
+		vol, mom := int(b.Next()%5)-1, int(b.Next()%5)-1
+		sh, vh, ch := float64(b.Next()%20), float64(b.Next()%20), float64(b.Next()%20)
+		x := fuzzMatrix(&b)
 		_, n := x.Dims()
 		sectors := make([]string, n)
 		caps := make([]float64, n)
 		for j := range sectors {
-			sectors[j] = string(rune('A' + b.next()%3))
+			sectors[j] = string(rune('A' + b.Next()%3))
 		}
 		for j := range caps {
-			caps[j] = float64(b.next()) * 1e6
+			caps[j] = float64(b.Next()) * 1e6
 		}
 		s := ExposureSettings{
 			Sectors:          sectors,
@@ -198,8 +169,8 @@ func FuzzNewModel(f *testing.F) {
 	f.Add([]byte{4, 0, 1, 2, 3, 4})
 	f.Add([]byte{2, 2, 10, 20, 30, 40, 100, 200, 0x81, 1, 0})
 	f.Fuzz(func(t *testing.T, data []byte) {
-		b := fuzzBytes(data)
-		n, k := 1+int(b.next()%8), int(b.next()%4)
+		b := fuzzcheck.Bytes(data)
+		n, k := 1+int(b.Next()%8), int(b.Next()%4)
 		var (
 			loadings *mat.Dense
 			cov      *mat.SymDense
@@ -208,17 +179,17 @@ func FuzzNewModel(f *testing.F) {
 			loadings = mat.NewDense(n, k, nil)
 			for i := 0; i < n; i++ {
 				for j := 0; j < k; j++ {
-					loadings.Set(i, j, b.value())
+					loadings.Set(i, j, b.Value(specials))
 				}
 			}
 			a := mat.NewDense(k, k, nil)
 			for i := 0; i < k; i++ {
 				for j := 0; j < k; j++ {
-					a.Set(i, j, b.value())
+					a.Set(i, j, b.Value(specials))
 				}
 			}
 			cov = mat.NewSymDense(k, nil)
-			if b.next()%2 == 0 {
+			if b.Next()%2 == 0 {
 				cov.SymOuterK(1, a) // positive semidefinite
 			} else {
 				for i := 0; i < k; i++ {
@@ -230,7 +201,7 @@ func FuzzNewModel(f *testing.F) {
 		}
 		spec := make([]float64, n)
 		for i := range spec {
-			spec[i] = (math.Abs(b.value()) + 0.01) / 100
+			spec[i] = (math.Abs(b.Value(specials)) + 0.01) / 100
 		}
 		m, err := NewModel(loadings, cov, spec, Info{})
 		if err != nil {

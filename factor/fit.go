@@ -3,10 +3,7 @@ package factor
 import (
 	"fmt"
 	"math"
-	"runtime"
 	"slices"
-	"sync"
-	"sync/atomic"
 
 	"gonum.org/v1/gonum/mat"
 
@@ -25,8 +22,8 @@ import (
 // (zero with AssumeCentered).
 //
 // Principal components: the exact eigendecomposition of the smaller Gram
-// matrix (Method Gram; the T×T one when N > T) or the randomized truncated
-// SVD (Randomized) with Oversample extra columns and PowerIters power
+// matrix (SolverGram; the T×T one when N > T) or the randomized truncated
+// SVD (SolverRandomized) with Oversample extra columns and PowerIters power
 // iterations from a Gaussian sketch seeded with Seed. The result is
 // deterministic for a given seed, bit-identical for any GOMAXPROCS.
 //
@@ -48,7 +45,7 @@ import (
 // all criteria are reported in Info.Selection (see Selection).
 //
 // Specific variances: d̂_i is the exponentially weighted variance of asset
-// i's residuals around zero (ewma.VariancesTo, half-life SpecificHalfLife,
+// i's residuals around zero (ewma.Variances, half-life SpecificHalfLife,
 // weights renormalized over its observed dates, divisor Σw). It is shrunk
 // toward the plain mean d̄_g of its group,
 //
@@ -71,7 +68,7 @@ import (
 //
 // Fit panics with mat.ErrShape if Groups, Assets or PreviousIndex is neither
 // nil nor of length N. It returns an error wrapping ErrSettings for bad
-// settings, ErrTooFewData for T or N below 2, ErrTooManyFactors for
+// settings, ErrTooFewObs for T or N below 2, ErrTooManyFactors for
 // K ≥ min(N, T) or K above the rank of the data, ErrNonFinite for an Inf
 // (naming date and asset), ErrNoObservations for an asset with fewer than 2
 // observations, ErrEmptyDate for a date with none, ErrPrevious for a previous
@@ -108,7 +105,7 @@ func Fit(x mat.Matrix, s Settings) (*Model, error) {
 		panic(mat.ErrShape)
 	}
 	if t < 2 || n < 2 {
-		return nil, fmt.Errorf("%w: T = %d, N = %d", ErrTooFewData, t, n)
+		return nil, fmt.Errorf("%w: T = %d, N = %d", ErrTooFewObs, t, n)
 	}
 	r, err := s.resolve(t, n)
 	if err != nil {
@@ -118,7 +115,7 @@ func Fit(x mat.Matrix, s Settings) (*Model, error) {
 	if err != nil {
 		return nil, err
 	}
-	info := Info{Method: r.Method.String(), Params: r.params(), Assets: s.Assets}
+	info := Info{Method: r.Solver.String(), Params: r.params(), Assets: s.Assets}
 
 	// First pass on the mean-imputed data: spectrum, selection, K.
 	sketch := min(max(r.K, r.kmax+5), t, n)
@@ -167,7 +164,7 @@ func Fit(x mat.Matrix, s Settings) (*Model, error) {
 	var f *mat.SymDense
 	if k > 0 {
 		f = &mat.SymDense{}
-		if _, err := ewma.Estimate(f, ret, r.Covariance); err != nil {
+		if _, _, err := ewma.Estimate(f, ret, r.Covariance); err != nil {
 			return nil, fmt.Errorf("factor: factor covariance: %w", err)
 		}
 	}
@@ -208,7 +205,7 @@ func prepare(x mat.Matrix, assumeCentered bool) (*data, error) {
 		seen    []bool // seen[i]: date i has an observation in the block
 	}
 	scans := make([]scan, blocks)
-	eachBlock(blocks, func(b int) {
+	dense.Parallel(blocks, func(b int) {
 		lo, hi := b*width, min((b+1)*width, n)
 		sc := scan{inf: -1, seen: make([]bool, t)}
 		for i := 0; i < t; i++ {
@@ -269,7 +266,7 @@ func prepare(x mat.Matrix, assumeCentered bool) (*data, error) {
 			sum[j] = 0
 		}
 	}
-	eachBlock(blocks, func(b int) {
+	dense.Parallel(blocks, func(b int) {
 		lo, hi := b*width, min((b+1)*width, n)
 		for i := 0; i < t; i++ {
 			row := src[i*stride : i*stride+hi]
@@ -284,30 +281,6 @@ func prepare(x mat.Matrix, assumeCentered bool) (*data, error) {
 	return &data{z: z, missing: missing}, nil
 }
 
-// eachBlock calls f(0), …, f(n-1) on up to GOMAXPROCS goroutines; f must
-// not depend on which goroutine runs it.
-func eachBlock(n int, f func(int)) {
-	workers := min(runtime.GOMAXPROCS(0), n)
-	if workers <= 1 {
-		for i := 0; i < n; i++ {
-			f(i)
-		}
-		return
-	}
-	var next atomic.Int64
-	var wg sync.WaitGroup
-	for w := 0; w < workers; w++ {
-		wg.Add(1)
-		go func() {
-			defer wg.Done()
-			for i := int(next.Add(1) - 1); i < n; i = int(next.Add(1) - 1) {
-				f(i)
-			}
-		}()
-	}
-	wg.Wait()
-}
-
 func (d *data) sumSquares() float64 {
 	raw := d.z.RawMatrix()
 	var s float64
@@ -319,7 +292,7 @@ func (d *data) sumSquares() float64 {
 
 // decompose returns the leading r principal components of the current data.
 func (d *data) decompose(s resolved, r, iters int, seed uint64, start *mat.Dense) pcs {
-	if s.Method == Gram {
+	if s.Solver == SolverGram {
 		p, ok := gramSVD(d.z, r, s.Oversample, iters, seed)
 		if !ok {
 			panic("factor: eigendecomposition of the Gram matrix failed")
@@ -369,7 +342,7 @@ func (d *data) impute(s resolved, p pcs, k int) (pcs, Imputation) {
 		scale = math.Sqrt(d.sumSquares())
 		info.Change = math.Sqrt(change) / scale
 		info.Iterations = it
-		if s.Method == Gram && min(t, n) <= gramLimit {
+		if s.Solver == SolverGram && min(t, n) <= gramLimit {
 			p = truncate(d.decompose(s, k, 0, 0, nil), k)
 		} else {
 			// One warm-started subspace step: no oversampling, no extra power iteration.

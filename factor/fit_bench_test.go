@@ -36,18 +36,18 @@ func BenchmarkFit(b *testing.B) {
 		t, n, k    int
 		missing    bool
 		powerIters int
-		method     Method
+		method     Solver
 	}{
-		{t: 1000, n: 3000, k: 20, method: Auto},
-		{t: 1000, n: 3000, k: 20, method: Randomized},
-		{t: 1000, n: 3000, k: 20, powerIters: 2, method: Randomized},
+		{t: 1000, n: 3000, k: 20, method: SolverAuto},
+		{t: 1000, n: 3000, k: 20, method: SolverRandomized},
+		{t: 1000, n: 3000, k: 20, powerIters: 2, method: SolverRandomized},
 		{t: 1000, n: 3000, k: 20, missing: true},
 	} {
 		x := benchReturns(c.t, c.n, c.missing)
 		name := fmt.Sprintf("T=%d/N=%d/K=%d/missing=%v/iters=%d/%v", c.t, c.n, c.k, c.missing, c.powerIters, c.method)
 		b.Run(name, func(b *testing.B) {
 			s := baseSettings()
-			s.K, s.Method, s.PowerIters = c.k, c.method, c.powerIters
+			s.K, s.Solver, s.PowerIters = c.k, c.method, c.powerIters
 			b.ReportAllocs()
 			for i := 0; i < b.N; i++ {
 				m, err := Fit(x, s)

@@ -14,20 +14,20 @@ import (
 func TestNumpySVD(t *testing.T) {
 	for _, tc := range []struct {
 		name, file string
-		method     Method
+		method     Solver
 		iters      int
 		tol        float64
 	}{
-		{name: "tall gram", file: "svd_tall.json", method: Gram, tol: 1e-10},
-		{name: "wide gram", file: "svd_wide.json", method: Gram, tol: 1e-10},
-		{name: "tall randomized", file: "svd_tall.json", method: Randomized, iters: 8, tol: 1e-8},
-		{name: "wide randomized", file: "svd_wide.json", method: Randomized, iters: 8, tol: 1e-8},
+		{name: "tall gram", file: "svd_tall.json", method: SolverGram, tol: 1e-10},
+		{name: "wide gram", file: "svd_wide.json", method: SolverGram, tol: 1e-10},
+		{name: "tall randomized", file: "svd_tall.json", method: SolverRandomized, iters: 8, tol: 1e-8},
+		{name: "wide randomized", file: "svd_wide.json", method: SolverRandomized, iters: 8, tol: 1e-8},
 	} {
 		t.Run(tc.name, func(t *testing.T) {
 			fx := loadSVDFixture(t, tc.file)
 			x := rowsToDense(fx.X)
 			s := baseSettings()
-			s.K, s.MaxFactors, s.Method, s.PowerIters = fx.K, fx.Kmax, tc.method, tc.iters
+			s.K, s.MaxFactors, s.Solver, s.PowerIters = fx.K, fx.Kmax, tc.method, tc.iters
 			m, err := Fit(x, s)
 			require.NoError(t, err)
 			want := projector(rowsToDense(fx.Vt).T())
@@ -50,7 +50,7 @@ func TestNumpySVD(t *testing.T) {
 				sv := fx.SingularValues[j]
 				require.InDelta(t, sv*sv/float64(fx.T), sel.Eigenvalues[j], tc.tol*sv*sv)
 			}
-			if tc.method == Gram {
+			if tc.method == SolverGram {
 				// Every eigenvalue is exact on the Gram path, so the criteria match.
 				require.InDeltaSlice(t, fx.ICp1, sel.ICp1, 1e-9)
 				require.InDeltaSlice(t, fx.ICp2, sel.ICp2, 1e-9)

@@ -12,9 +12,9 @@ import (
 type HybridSettings struct {
 	// K is the number of statistical factors. Required, at least 1.
 	K int
-	// Method and Seed choose how the principal components are computed, as
+	// Solver and Seed choose how the principal components are computed, as
 	// in Settings.
-	Method Method
+	Solver Solver
 	Seed   uint64
 }
 
@@ -59,7 +59,7 @@ func FitHybrid(x mat.Matrix, s ExposureSettings, h HybridSettings) (*Model, *Reg
 	}
 	u := mat.DenseCopyOf(reg.SpecificReturns.Slice(p.first, p.t, 0, p.n))
 	stat, err := Fit(u, Settings{
-		K: h.K, Method: h.Method, Seed: h.Seed, AssumeCentered: true,
+		K: h.K, Solver: h.Solver, Seed: h.Seed, AssumeCentered: true,
 		Covariance: s.Covariance, SpecificHalfLife: s.SpecificHalfLife, NoSpecificShrink: true,
 	})
 	if err != nil {

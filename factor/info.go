@@ -2,13 +2,24 @@ package factor
 
 import "slices"
 
+// Estimator names recorded in Info.Method. They are written into saved
+// models, so they never change.
+const (
+	MethodPCAGram       = "pca-gram"       // Fit with SolverGram
+	MethodPCARandomized = "pca-randomized" // Fit with SolverRandomized
+	MethodExposure      = "exposure"       // FitExposure
+	MethodHybrid        = "hybrid"         // FitHybrid
+)
+
 // Info is the record of how a model was made: what a store saves beside the
 // matrices so that a reader knows the method, its parameters, the number of
 // factors and why it was chosen. All fields are plain values so the record
 // can be written as JSON or a metadata row.
 type Info struct {
-	// Method names the estimator, for example MethodRandomized or MethodGram
-	// for Fit; other builders (an exposure-based model) give their own name.
+	// Method names the estimator: MethodPCAGram or MethodPCARandomized for
+	// Fit (the solver it used), MethodExposure for FitExposure, MethodHybrid
+	// for FitHybrid; a model made by NewModel carries the caller's name. The
+	// names are written into saved models and never change.
 	Method string
 	// Params are the settings the model was fitted with (zero for models not
 	// made by Fit).

@@ -42,7 +42,7 @@ func TestBadInput(t *testing.T) {
 		}), err: ErrEmptyDate},
 		{name: "+Inf", x: with(func(x *mat.Dense) { x.Set(4, 5, math.Inf(1)) }), err: ErrNonFinite},
 		{name: "-Inf", x: with(func(x *mat.Dense) { x.Set(0, 0, math.Inf(-1)) }), err: ErrNonFinite},
-		{name: "one date", x: mat.NewDense(1, 5, nil), err: ErrTooFewData},
+		{name: "one date", x: mat.NewDense(1, 5, nil), err: ErrTooFewObs},
 		{name: "missing half-life", x: sim.x, edit: func(s *Settings) { s.SpecificHalfLife = 0 }, err: ErrSettings},
 		{name: "missing vol half-life", x: sim.x, edit: func(s *Settings) { s.Covariance.VolHalfLife = math.NaN() }, err: ErrSettings},
 		{name: "shrink above 1", x: sim.x, edit: func(s *Settings) { s.SpecificShrink = 1.5 }, err: ErrSettings},

@@ -201,9 +201,9 @@ func (m *Model) FactorCovarianceTo(dst *mat.SymDense) *mat.SymDense {
 }
 
 // SpecificVariancesTo copies diag(D) to dst (length N) and returns it. A nil
-// dst is allocated; a dst of another length panics with mat.ErrShape.
+// or empty dst is allocated; a dst of another length panics with mat.ErrShape.
 func (m *Model) SpecificVariancesTo(dst []float64) []float64 {
-	dst = vecDst(dst, m.n)
+	dst = dense.SizeVec(dst, m.n)
 	copy(dst, m.d)
 	return dst
 }
@@ -230,14 +230,4 @@ func (m *Model) Assets() []string {
 		return nil
 	}
 	return append([]string(nil), m.info.Assets...)
-}
-
-func vecDst(dst []float64, n int) []float64 {
-	if dst == nil {
-		return make([]float64, n)
-	}
-	if len(dst) != n {
-		panic(mat.ErrShape)
-	}
-	return dst
 }

@@ -11,13 +11,13 @@ import (
 )
 
 // MulVecTo sets dst to Σ·x = B·(F·(Bᵀx)) + D·x and returns it. dst may be x
-// itself. A nil dst is allocated; a dst or x whose length is not N panics
-// with mat.ErrShape. Cost O(N·K + K²).
+// itself. A nil or empty dst is allocated; a dst or x whose length is not N
+// panics with mat.ErrShape. Cost O(N·K + K²).
 func (m *Model) MulVecTo(dst, x []float64) []float64 {
 	if len(x) != m.n {
 		panic(mat.ErrShape)
 	}
-	dst = vecDst(dst, m.n)
+	dst = dense.SizeVec(dst, m.n)
 	if m.k == 0 {
 		for i, v := range x {
 			dst[i] = m.d[i] * v
@@ -74,7 +74,7 @@ func (m *Model) QuadForm(x []float64) float64 {
 // mat.ErrShape. Cost O(N·K).
 func (m *Model) SqrtTo(g *mat.Dense, s []float64) (*mat.Dense, []float64) {
 	g = dense.SizeDense(g, m.k, m.n)
-	s = vecDst(s, m.n)
+	s = dense.SizeVec(s, m.n)
 	if m.k > 0 {
 		g.Copy(m.bl.T())
 	}
@@ -106,8 +106,8 @@ func (m *Model) CovarianceTo(dst *mat.SymDense) *mat.SymDense {
 //	Σ⁻¹ = D⁻¹ − D⁻¹W·(I + WᵀD⁻¹W)⁻¹·WᵀD⁻¹,   W = B·L,   F = L·Lᵀ,
 //
 // which needs no inverse of F, so a singular F is fine (Σ is positive
-// definite because D > 0). dst may be x. A nil dst is allocated; a dst or x
-// whose length is not N panics with mat.ErrShape. Cost O(N·K + K²) per call;
+// definite because D > 0). dst may be x. A nil or empty dst is allocated; a
+// dst or x whose length is not N panics with mat.ErrShape. Cost O(N·K + K²) per call;
 // the K×K factorization is done once in NewModel, O(N·K²).
 //
 // References: Woodbury, M.A. (1950), "Inverting modified matrices",
@@ -116,7 +116,7 @@ func (m *Model) SolveVecTo(dst, x []float64) []float64 {
 	if len(x) != m.n {
 		panic(mat.ErrShape)
 	}
-	dst = vecDst(dst, m.n)
+	dst = dense.SizeVec(dst, m.n)
 	if m.k == 0 {
 		for i, v := range x {
 			dst[i] = v / m.d[i]

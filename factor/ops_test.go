@@ -130,6 +130,34 @@ func TestShapePanics(t *testing.T) {
 	require.PanicsWithValue(t, mat.ErrZeroLength, func() { m.Submodel(nil) })
 }
 
+// TestEmptyDst: an empty destination is allocated as a nil one is (the dst
+// rule of DEVELOPERS.md), for every method that fills one.
+func TestEmptyDst(t *testing.T) {
+	m := smallModel(t)
+	n := m.SymmetricDim()
+	x := make([]float64, n)
+	for i := range x {
+		x[i] = float64(i%7) - 3
+	}
+	require.Equal(t, m.MulVecTo(nil, x), m.MulVecTo([]float64{}, x))
+	require.Equal(t, m.SolveVecTo(nil, x), m.SolveVecTo([]float64{}, x))
+	require.Equal(t, m.SpecificVariancesTo(nil), m.SpecificVariancesTo([]float64{}))
+	g, s := m.SqrtTo(&mat.Dense{}, []float64{})
+	g0, s0 := m.SqrtTo(nil, nil)
+	require.Equal(t, g0.RawMatrix().Data, g.RawMatrix().Data)
+	require.Equal(t, s0, s)
+	var l mat.Dense
+	require.Same(t, &l, m.LoadingsTo(&l))
+	require.True(t, mat.Equal(m.LoadingsTo(nil), &l))
+	var f, c, inv mat.SymDense
+	require.True(t, mat.Equal(m.FactorCovarianceTo(nil), m.FactorCovarianceTo(&f)))
+	require.True(t, mat.Equal(m.CovarianceTo(nil), m.CovarianceTo(&c)))
+	require.True(t, mat.Equal(m.InverseTo(nil), m.InverseTo(&inv)))
+	require.PanicsWithValue(t, mat.ErrShape, func() { m.SqrtTo(nil, make([]float64, n+1)) })
+	require.PanicsWithValue(t, mat.ErrShape, func() { m.SolveVecTo(make([]float64, 2), x) })
+	require.PanicsWithValue(t, mat.ErrShape, func() { m.InverseTo(mat.NewSymDense(2, nil)) })
+}
+
 func TestSubmodel(t *testing.T) {
 	m := smallModel(t)
 	idx := []int{5, 0, 17, 5}
@@ -247,9 +275,9 @@ func equalSlices(a, b []float64) bool {
 // GOMAXPROCS 1 and 2, on every route.
 func TestDeterministicAcrossProcs(t *testing.T) {
 	sim := simulate(41, 150, 420, 4)
-	for _, method := range []Method{Gram, Randomized} {
+	for _, method := range []Solver{SolverGram, SolverRandomized} {
 		s := baseSettings()
-		s.Method, s.Seed = method, 99
+		s.Solver, s.Seed = method, 99
 		prev := runtime.GOMAXPROCS(1)
 		one, err := Fit(sim.x, s)
 		runtime.GOMAXPROCS(max(prev, 2))

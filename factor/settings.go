@@ -7,40 +7,46 @@ import (
 	"github.com/riskmodel/riskmodel/ewma"
 )
 
-// Method selects how the principal components are computed.
-type Method int
+// Solver selects how Fit computes the principal components (the route to the
+// truncated SVD, as gonum's SVDKind selects one); it does not change the
+// estimator, only how its leading components are found.
+type Solver int
 
 const (
-	// Auto uses Gram when min(N, T) ≤ 300 or T·N ≤ 2²⁴ and Randomized
-	// otherwise (default): forming the Gram matrix takes two transient T×N
-	// copies, too much memory for the largest panels.
-	Auto Method = iota
-	// Randomized is the randomized truncated SVD of Halko, Martinsson & Tropp (2011).
-	Randomized
-	// Gram works on the smaller Gram matrix: the T×T one when N > T (Connor
-	// & Korajczyk 1986). It is eigen-decomposed exactly when min(N, T) ≤ 300,
-	// otherwise by seeded subspace iteration (PowerIters rounds).
-	Gram
+	// SolverAuto uses SolverGram when min(N, T) ≤ 300 or T·N ≤ 2²⁴ and
+	// SolverRandomized otherwise (default): forming the Gram matrix takes two
+	// transient T×N copies, too much memory for the largest panels.
+	SolverAuto Solver = iota
+	// SolverRandomized is the randomized truncated SVD of Halko, Martinsson &
+	// Tropp (2011).
+	SolverRandomized
+	// SolverGram works on the smaller Gram matrix: the T×T one when N > T
+	// (Connor & Korajczyk 1986). It is eigen-decomposed exactly when
+	// min(N, T) ≤ 300, otherwise by seeded subspace iteration (PowerIters
+	// rounds).
+	SolverGram
 )
 
-// gramLimit is the largest min(N, T) for which Auto picks the exact Gram
+// gramLimit is the largest min(N, T) for which SolverAuto picks the exact Gram
 // route: its eigendecomposition costs about 0.1 s at 300 on this kind of machine.
 const gramLimit = 300
 
-// gramCells is the largest T·N for which Auto forms the Gram matrix.
+// gramCells is the largest T·N for which SolverAuto forms the Gram matrix.
 const gramCells = 1 << 24
 
-// String returns the method's name as recorded in Info.Method.
-func (m Method) String() string {
+// String returns the name Fit records in Info.Method for a model computed
+// with the solver: MethodPCARandomized or MethodPCAGram ("auto" for
+// SolverAuto, which Fit resolves to one of the two before it records it).
+func (m Solver) String() string {
 	switch m {
-	case Auto:
+	case SolverAuto:
 		return "auto"
-	case Randomized:
-		return "pca-randomized"
-	case Gram:
-		return "pca-gram"
+	case SolverRandomized:
+		return MethodPCARandomized
+	case SolverGram:
+		return MethodPCAGram
 	}
-	return fmt.Sprintf("Method(%d)", int(m))
+	return fmt.Sprintf("Solver(%d)", int(m))
 }
 
 // Settings configure Fit. Fields marked required have no sensible zero value
@@ -53,8 +59,8 @@ type Settings struct {
 	// MaxFactors is the largest k the criteria consider; 0 means K when K is
 	// given, otherwise min(20, min(N, T) − 1).
 	MaxFactors int
-	// Method: Auto (default), Randomized or Gram.
-	Method Method
+	// Solver: SolverAuto (default), SolverRandomized or SolverGram.
+	Solver Solver
 	// Seed seeds the Gaussian test matrix of the randomized SVD.
 	Seed uint64
 	// Oversample is the number of extra sketch columns; 0 means 10.
@@ -117,8 +123,8 @@ func (s Settings) resolve(t, n int) (resolved, error) {
 		return r, fmt.Errorf("%w: K = %d ≥ min(N, T) = %d", ErrTooManyFactors, s.K, m)
 	case s.Criterion < BaiNgICp2 || s.Criterion > MarchenkoPastur:
 		return bad("unknown criterion %d", int(s.Criterion))
-	case s.Method < Auto || s.Method > Gram:
-		return bad("unknown method %d", int(s.Method))
+	case s.Solver < SolverAuto || s.Solver > SolverGram:
+		return bad("unknown solver %d", int(s.Solver))
 	case s.MaxFactors < 0 || s.Oversample < 0 || s.PowerIters < 0 || s.MaxIter < 0:
 		return bad("MaxFactors, Oversample, PowerIters and MaxIter must be ≥ 0")
 	case !(s.Tol >= 0) || math.IsInf(s.Tol, 0):
@@ -133,10 +139,10 @@ func (s Settings) resolve(t, n int) (resolved, error) {
 	case !(s.SpecificFloor >= 0) || math.IsInf(s.SpecificFloor, 0):
 		return bad("SpecificFloor = %v", s.SpecificFloor)
 	}
-	if s.Method == Auto {
-		r.Method = Randomized
+	if s.Solver == SolverAuto {
+		r.Solver = SolverRandomized
 		if m <= gramLimit || t*n <= gramCells {
-			r.Method = Gram
+			r.Solver = SolverGram
 		}
 	}
 	if r.Oversample == 0 {

@@ -127,10 +127,10 @@ func TestRandomizedMatchesExact(t *testing.T) {
 	sim := simulate(13, 400, 290, 5)
 	s := baseSettings()
 	s.K = 5
-	s.Method = Gram
+	s.Solver = SolverGram
 	exact, err := Fit(sim.x, s)
 	require.NoError(t, err)
-	s.Method = Randomized
+	s.Solver = SolverRandomized
 	rnd, err := Fit(sim.x, s)
 	require.NoError(t, err)
 	require.True(t, mat.EqualApprox(projector(exact.LoadingsTo(nil)), projector(rnd.LoadingsTo(nil)), 1e-3))
@@ -150,7 +150,7 @@ func TestRandomizedMatchesExact(t *testing.T) {
 // an early delisting, the impute–refit iterations converge and recover the
 // factor space about as well as the complete data do.
 func TestMissingData(t *testing.T) {
-	for _, method := range []Method{Gram, Randomized} {
+	for _, method := range []Solver{SolverGram, SolverRandomized} {
 		t.Run(method.String(), func(t *testing.T) {
 			sim := simulate(17, 300, 150, 3)
 			x := mat.DenseCopyOf(sim.x)
@@ -164,7 +164,7 @@ func TestMissingData(t *testing.T) {
 			}
 			before := mat.DenseCopyOf(x)
 			s := baseSettings()
-			s.K, s.Method = 3, method
+			s.K, s.Solver = 3, method
 			m, err := Fit(x, s)
 			require.NoError(t, err)
 			require.True(t, mat.Equal(before, x) || sameWithNaN(before, x), "input changed")

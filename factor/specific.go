@@ -37,7 +37,7 @@ func (s specificRule) apply(resid *mat.Dense) ([]float64, Specific, error) {
 	if err != nil {
 		return nil, Specific{}, fmt.Errorf("%w: SpecificHalfLife: %w", ErrSettings, err)
 	}
-	raw, err := ewma.VariancesTo(nil, resid, w, nil)
+	raw, err := ewma.Variances(nil, resid, w, nil)
 	if err != nil {
 		return nil, Specific{}, fmt.Errorf("factor: specific variances: %w", err)
 	}

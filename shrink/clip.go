@@ -49,14 +49,12 @@ type ClipResult struct {
 // 83:1467–1470; Marchenko, V. A. and Pastur, L. A. (1967), "Distribution of
 // eigenvalues for some sets of random matrices", Math. USSR-Sbornik 1:457–483.
 func ClipMarchenkoPastur(dst *mat.SymDense, x mat.Matrix, w []float64) (*mat.SymDense, ClipResult, error) {
+	dense.CheckSym(dst, colsOf(x))
 	s, err := newSample(x, w, 2)
 	if err != nil {
 		return dst, ClipResult{}, err
 	}
 	n := s.n
-	if dst != nil && !dst.IsEmpty() && dst.SymmetricDim() != n {
-		panic(mat.ErrShape)
-	}
 	sd := make([]float64, n)
 	raw := s.y.RawMatrix()
 	for t := 0; t < s.t; t++ {

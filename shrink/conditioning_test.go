@@ -120,6 +120,9 @@ func TestNearestPSD(t *testing.T) {
 	_, _, err = CapCondition(nil, build(-1, -2, -3), 10)
 	require.ErrorIs(t, err, ErrBadParameter)
 	require.PanicsWithValue(t, mat.ErrShape, func() { NearestPSD(mat.NewSymDense(2, nil), a, 0) })
+	// Shape misuse panics before the parameters are checked.
+	require.PanicsWithValue(t, mat.ErrShape, func() { NearestPSD(mat.NewSymDense(2, nil), a, -1) })
+	require.PanicsWithValue(t, mat.ErrShape, func() { CapCondition(mat.NewSymDense(2, nil), a, 0.5) })
 	// dst reuse gives the same answer.
 	dst := mat.NewSymDense(3, nil)
 	r1, _, _ := NearestPSD(dst, a, 0)

@@ -21,8 +21,11 @@
 //     1/Σω_t², which is T when the weights are equal.
 //   - Inputs must be finite; the first non-finite value is reported by row and
 //     column in a *DataError. Nothing here has a missing-data rule.
-//   - Shape misuse (a dst or weight vector of the wrong size) panics with
-//     mat.ErrShape, as gonum does. Inputs are never modified.
+//   - The result goes to dst, which comes first; a nil or empty dst is
+//     allocated, and the methods that fill a destination end in To
+//     (Implicit.DenseTo). Shape misuse (a dst or weight vector of the wrong
+//     size) panics with mat.ErrShape before any data are read, as gonum
+//     does. Inputs are never modified.
 //   - Where N > T nothing eigen-decomposes an N×N matrix: the spectral
 //     estimators work in the T×T Gram space, and the linear estimators have an
 //     implicit form (Implicit) whose product costs O(N·T).

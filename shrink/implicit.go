@@ -96,19 +96,15 @@ func (m *Implicit) At(i, j int) float64 {
 	return v
 }
 
-// MulVecTo sets dst = Σx = Zᵀ(Zx) + d∘x and returns dst. A nil dst is
-// allocated; a dst or x whose length is not N panics with mat.ErrShape.
+// MulVecTo sets dst = Σx = Zᵀ(Zx) + d∘x and returns dst. A nil or empty dst
+// is allocated; a dst or x whose length is not N panics with mat.ErrShape.
 // dst and x may not share memory. Cost O(N·T).
 func (m *Implicit) MulVecTo(dst, x []float64) []float64 {
 	t, n := m.z.Dims()
 	if len(x) != n {
 		panic(mat.ErrShape)
 	}
-	if dst == nil {
-		dst = make([]float64, n)
-	} else if len(dst) != n {
-		panic(mat.ErrShape)
-	}
+	dst = dense.SizeVec(dst, n)
 	zx := mat.NewVecDense(t, nil)
 	zx.MulVec(m.z, mat.NewVecDense(n, x))
 	out := mat.NewVecDense(n, dst)
@@ -135,15 +131,12 @@ func (m *Implicit) QuadForm(x []float64) float64 {
 	return q
 }
 
-// DiagTo sets dst to the diagonal of Σ and returns it; nil dst allocates, a
+// DiagTo sets dst to the diagonal of Σ and returns it; a nil or empty dst is
+// allocated, a
 // dst whose length is not N panics with mat.ErrShape. Cost O(N·T).
 func (m *Implicit) DiagTo(dst []float64) []float64 {
 	t, n := m.z.Dims()
-	if dst == nil {
-		dst = make([]float64, n)
-	} else if len(dst) != n {
-		panic(mat.ErrShape)
-	}
+	dst = dense.SizeVec(dst, n)
 	copy(dst, m.d)
 	raw := m.z.RawMatrix()
 	for k := 0; k < t; k++ {

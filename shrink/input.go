@@ -143,3 +143,5 @@ func checkSym(a mat.Symmetric) (*mat.SymDense, error) {
 	}
 	return c, nil
 }
+
+func colsOf(x mat.Matrix) int { _, n := x.Dims(); return n }

@@ -3,6 +3,8 @@ package shrink
 import (
 	"gonum.org/v1/gonum/blas/blas64"
 	"gonum.org/v1/gonum/mat"
+
+	"github.com/riskmodel/riskmodel/internal/dense"
 )
 
 // LinearResult holds the diagnostics of a shrinkage toward a scaled identity.
@@ -45,6 +47,7 @@ type LinearResult struct {
 // for large-dimensional covariance matrices", J. Multivariate Analysis
 // 88(2):365–411, section 3.
 func LedoitWolf(dst *mat.SymDense, x mat.Matrix, w []float64) (*mat.SymDense, LinearResult, error) {
+	dense.CheckSym(dst, colsOf(x))
 	s, err := newSample(x, w, 2)
 	if err != nil {
 		return dst, LinearResult{}, err

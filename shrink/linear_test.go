@@ -238,4 +238,8 @@ func TestImplicitProducts(t *testing.T) {
 	require.PanicsWithValue(t, mat.ErrShape, func() { imp.MulVecTo(nil, v[:3]) })
 	require.PanicsWithValue(t, mat.ErrShape, func() { imp.QuadForm(v[:3]) })
 	require.PanicsWithValue(t, mat.ErrShape, func() { imp.DenseTo(mat.NewSymDense(3, nil)) })
+	require.PanicsWithValue(t, mat.ErrShape, func() { imp.MulVecTo(make([]float64, 3), v) })
+	require.PanicsWithValue(t, mat.ErrShape, func() { imp.DiagTo(make([]float64, 3)) })
+	require.Equal(t, got, imp.MulVecTo([]float64{}, v), "an empty dst is allocated")
+	require.Equal(t, diag, imp.DiagTo([]float64{}))
 }

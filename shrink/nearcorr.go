@@ -56,9 +56,7 @@ type NearCorrResult struct {
 // algorithm 3.3.
 func NearestCorrelation(dst *mat.SymDense, a mat.Symmetric, opt *NearCorrOptions) (*mat.SymDense, NearCorrResult, error) {
 	n := a.SymmetricDim()
-	if dst != nil && !dst.IsEmpty() && dst.SymmetricDim() != n {
-		panic(mat.ErrShape)
-	}
+	dense.CheckSym(dst, n)
 	var o NearCorrOptions
 	if opt != nil {
 		o = *opt

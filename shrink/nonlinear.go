@@ -64,14 +64,12 @@ type NonlinearResult struct {
 // shrinkage of large-dimensional covariance matrices", Annals of Statistics
 // 48(5):3043–3065, section 4 (volume and pages from memory).
 func Nonlinear(dst *mat.SymDense, x mat.Matrix, w []float64) (*mat.SymDense, NonlinearResult, error) {
+	dense.CheckSym(dst, colsOf(x))
 	s, err := newSample(x, w, 13)
 	if err != nil {
 		return dst, NonlinearResult{}, err
 	}
 	p := s.n
-	if dst != nil && !dst.IsEmpty() && dst.SymmetricDim() != p {
-		panic(mat.ErrShape)
-	}
 	nn := s.t - 1
 	b := scaledRows(s.y, func(t int) float64 { return math.Sqrt(s.weight(t) * float64(s.t) / float64(nn)) })
 	vals, u, err := rowSpectrum(b)

@@ -2,6 +2,8 @@ package shrink
 
 import (
 	"gonum.org/v1/gonum/mat"
+
+	"github.com/riskmodel/riskmodel/internal/dense"
 )
 
 // OAS sets dst to the oracle approximating shrinkage of the sample covariance
@@ -26,6 +28,7 @@ import (
 // "Shrinkage algorithms for MMSE covariance estimation", IEEE Trans. Signal
 // Processing 58(10):5016–5029.
 func OAS(dst *mat.SymDense, x mat.Matrix, w []float64) (*mat.SymDense, LinearResult, error) {
+	dense.CheckSym(dst, colsOf(x))
 	s, err := newSample(x, w, 2)
 	if err != nil {
 		return dst, LinearResult{}, err

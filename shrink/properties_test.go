@@ -2,6 +2,7 @@ package shrink
 
 import (
 	"math"
+	"strings"
 	"testing"
 
 	"github.com/stretchr/testify/require"
@@ -155,6 +156,17 @@ func TestBadInput(t *testing.T) {
 
 			require.PanicsWithValue(t, mat.ErrShape, func() { e.fn(nil, x, make([]float64, 29)) })
 			require.PanicsWithValue(t, mat.ErrShape, func() { e.fn(mat.NewSymDense(4, nil), x, nil) })
+			var empty mat.SymDense
+			got, err := e.fn(&empty, x, nil)
+			require.NoError(t, err)
+			require.Same(t, &empty, got, "an empty dst is sized and filled")
+			require.Equal(t, 5, empty.SymmetricDim())
+			if !strings.HasSuffix(e.name, "Implicit") { // these take no dst
+				bad := randReturns(61, 30, 5)
+				bad.Set(0, 0, math.NaN())
+				require.PanicsWithValue(t, mat.ErrShape, func() { e.fn(mat.NewSymDense(4, nil), bad, nil) },
+					"a wrong-sized dst panics before the data are read")
+			}
 		})
 	}
 	_, _, err := SchaferStrimmer(nil, randReturns(65, 2, 3), nil)

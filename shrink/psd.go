@@ -39,6 +39,7 @@ type Repair struct {
 // References: Higham, N. J. (1988), "Computing a nearest symmetric positive
 // semidefinite matrix", Linear Algebra Appl. 103:103–118.
 func NearestPSD(dst *mat.SymDense, a mat.Symmetric, floor float64) (*mat.SymDense, Repair, error) {
+	dense.CheckSym(dst, a.SymmetricDim())
 	if !(floor >= 0) || math.IsInf(floor, 0) {
 		return dst, Repair{}, &DataError{Row: -1, Col: -1, Value: floor, Err: ErrBadParameter}
 	}
@@ -62,6 +63,7 @@ func NearestPSD(dst *mat.SymDense, a mat.Symmetric, floor float64) (*mat.SymDens
 // References: common practice, no single source (eigenvalue floor relative
 // to the largest eigenvalue); see also Higham (1988) for the nearest PSD.
 func CapCondition(dst *mat.SymDense, a mat.Symmetric, maxCond float64) (*mat.SymDense, Repair, error) {
+	dense.CheckSym(dst, a.SymmetricDim())
 	if !(maxCond >= 1) {
 		return dst, Repair{}, &DataError{Row: -1, Col: -1, Value: maxCond, Err: ErrBadParameter}
 	}
@@ -72,9 +74,6 @@ func CapCondition(dst *mat.SymDense, a mat.Symmetric, maxCond float64) (*mat.Sym
 // maxCond > 0.
 func floorEigen(dst *mat.SymDense, a mat.Symmetric, floor, maxCond float64) (*mat.SymDense, Repair, error) {
 	n := a.SymmetricDim()
-	if dst != nil && !dst.IsEmpty() && dst.SymmetricDim() != n {
-		panic(mat.ErrShape)
-	}
 	c, err := checkSym(a)
 	if err != nil {
 		return dst, Repair{}, err

@@ -5,6 +5,8 @@ import (
 	"slices"
 
 	"gonum.org/v1/gonum/mat"
+
+	"github.com/riskmodel/riskmodel/internal/dense"
 )
 
 // SchaferResult holds the diagnostics of SchaferStrimmer.
@@ -48,6 +50,7 @@ type SchaferResult struct {
 // by a distribution-free shrinkage approach", Stat. Appl. Genet. Mol. Biol.
 // 6(1):9.
 func SchaferStrimmer(dst *mat.SymDense, x mat.Matrix, w []float64) (*mat.SymDense, SchaferResult, error) {
+	dense.CheckSym(dst, colsOf(x))
 	s, err := newSample(x, w, 3)
 	if err != nil {
 		return dst, SchaferResult{}, err

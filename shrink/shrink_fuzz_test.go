@@ -18,73 +18,39 @@ import (
 var sentinels = []error{ErrNonFinite, ErrTooFewObs, ErrZeroVariance, ErrWeights,
 	ErrNotSymmetric, ErrNotConverged, ErrBadParameter, ErrNoEigen, ErrRankDeficient, ErrOverflow}
 
-// fuzzBytes hands out the fuzz input a byte at a time, then zeros.
-type fuzzBytes []byte
+// specials: the top byte codes decode to NaN, ±Inf, 1e150 and 1e−150
+// (fuzzcheck.Bytes.Value); the seed corpora depend on it.
+const specials = 5
 
-func (b *fuzzBytes) next() byte {
-	if len(*b) == 0 {
-		return 0
-	}
-	c := (*b)[0]
-	*b = (*b)[1:]
-	return c
-}
-
-// value decodes one byte: a few codes are NaN, ±Inf or a huge or tiny
-// number; the others are multiples of 0.01 in [−1.27, 1.27].
-func (b *fuzzBytes) value() float64 {
-	switch c := b.next(); c {
-	case 0xff:
-		return math.NaN()
-	case 0xfe:
-		return math.Inf(1)
-	case 0xfd:
-		return math.Inf(-1)
-	case 0xfc:
-		return 1e150
-	case 0xfb:
-		return 1e-150
-	default:
-		return float64(int8(c)) / 100
-	}
-}
-
-// matrix decodes a T×N matrix, 1 ≤ T ≤ 12, 1 ≤ N ≤ 6, scaled by a power of
+// fuzzMatrix decodes a T×N matrix, 1 ≤ T ≤ 12, 1 ≤ N ≤ 6, scaled by a power of
 // ten in 1e−8 … 1e7.
-func (b *fuzzBytes) matrix() *mat.Dense {
-	t, n := 1+int(b.next()%12), 1+int(b.next()%6)
-	scale := math.Pow(10, float64(int(b.next()%16)-8))
-	x := mat.NewDense(t, n, nil)
-	for i := 0; i < t; i++ {
-		for j := 0; j < n; j++ {
-			x.Set(i, j, b.value()*scale)
-		}
-	}
-	return x
+func fuzzMatrix(b *fuzzcheck.Bytes) *mat.Dense {
+	t, n := 1+int(b.Next()%12), 1+int(b.Next()%6)
+	return b.Dense(t, n, b.Scale(-8, 16), specials)
 }
 
-// symmetric decodes an N×N symmetric matrix, 1 ≤ N ≤ 6, with a unit
+// fuzzSymmetric decodes an N×N symmetric matrix, 1 ≤ N ≤ 6, with a unit
 // diagonal when corr is set (a candidate correlation matrix).
-func (b *fuzzBytes) symmetric() *mat.SymDense {
-	n := 1 + int(b.next()%6)
-	scale := math.Pow(10, float64(int(b.next()%16)-8))
+func fuzzSymmetric(b *fuzzcheck.Bytes) *mat.SymDense {
+	n := 1 + int(b.Next()%6)
+	scale := b.Scale(-8, 16)
 	a := mat.NewSymDense(n, nil)
 	for i := 0; i < n; i++ {
 		for j := i; j < n; j++ {
-			a.SetSym(i, j, b.value()*scale)
+			a.SetSym(i, j, b.Value(specials)*scale)
 		}
 	}
 	return a
 }
 
-// weights decodes nil (equal weights) or raw weights.
-func (b *fuzzBytes) weights(t int) []float64 {
-	if b.next()%2 == 0 {
+// fuzzWeights decodes nil (equal weights) or raw weights.
+func fuzzWeights(b *fuzzcheck.Bytes, t int) []float64 {
+	if b.Next()%2 == 0 {
 		return nil
 	}
 	w := make([]float64, t)
 	for i := range w {
-		w[i] = b.value()
+		w[i] = b.Value(specials)
 	}
 	return w
 }
@@ -121,11 +87,11 @@ func FuzzEstimators(f *testing.F) {
 	f.Add([]byte{7, 1, 15, 0xfc, 0xfb, 0, 0, 1, 2, 3, 4, 0, 1})
 	f.Add([]byte{3, 2, 8, 1, 1, 2, 2, 3, 3, 4, 4, 5, 5, 6, 6, 1, 10, 0xff, 20, 30, 40, 50, 60, 70, 80, 5})
 	f.Fuzz(func(t *testing.T, data []byte) {
-		b := fuzzBytes(data)
-		x := b.matrix()
+		b := fuzzcheck.Bytes(data)
+		x := fuzzMatrix(&b)
 		rows, _ := x.Dims()
-		w := b.weights(rows)
-		which := b.next() % 11
+		w := fuzzWeights(&b, rows)
+		which := b.Next() % 11
 		var (
 			dst = &mat.SymDense{}
 			err error
@@ -219,10 +185,10 @@ func FuzzConditioning(f *testing.F) {
 	f.Add([]byte{3, 8, 100, 120, 130, 100, 0x81, 100, 0xff, 0, 5})
 	f.Add([]byte{0, 15, 0xfc, 1, 0})
 	f.Fuzz(func(t *testing.T, data []byte) {
-		b := fuzzBytes(data)
-		a := b.symmetric()
-		which := b.next() % 4
-		param := float64(b.next()) // a floor's or a condition cap's raw byte
+		b := fuzzcheck.Bytes(data)
+		a := fuzzSymmetric(&b)
+		which := b.Next() % 4
+		param := float64(b.Next()) // a floor's or a condition cap's raw byte
 		var (
 			dst = &mat.SymDense{}
 			err error

@@ -4,6 +4,8 @@ import (
 	"math"
 
 	"gonum.org/v1/gonum/mat"
+
+	"github.com/riskmodel/riskmodel/internal/dense"
 )
 
 // SingleIndex sets dst to the Ledoit–Wolf (2003) shrinkage of the sample
@@ -33,6 +35,7 @@ import (
 // covariance matrix of stock returns with an application to portfolio
 // selection", J. Empirical Finance 10(5):603–621, section 2 and appendix B.
 func SingleIndex(dst *mat.SymDense, x mat.Matrix, w []float64) (*mat.SymDense, TargetResult, error) {
+	dense.CheckSym(dst, colsOf(x))
 	s, err := newSample(x, w, 2)
 	if err != nil {
 		return dst, TargetResult{}, err

@@ -4,6 +4,8 @@ import (
 	"math"
 
 	"gonum.org/v1/gonum/mat"
+
+	"github.com/riskmodel/riskmodel/internal/dense"
 )
 
 // TargetResult holds the diagnostics of a shrinkage toward a structured
@@ -67,6 +69,7 @@ func checkVariances(x mat.Matrix, cov *mat.SymDense) error {
 // References: Ledoit, O. and Wolf, M. (2004), "Honey, I shrunk the sample
 // covariance matrix", J. Portfolio Management 30(4):110–119, appendix.
 func ConstantCorrelation(dst *mat.SymDense, x mat.Matrix, w []float64) (*mat.SymDense, TargetResult, error) {
+	dense.CheckSym(dst, colsOf(x))
 	s, err := newSample(x, w, 2)
 	if err != nil {
 		return dst, TargetResult{}, err

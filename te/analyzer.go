@@ -6,6 +6,8 @@ import (
 	"gonum.org/v1/gonum/blas"
 	"gonum.org/v1/gonum/blas/blas64"
 	"gonum.org/v1/gonum/mat"
+
+	"github.com/riskmodel/riskmodel/internal/dense"
 )
 
 // Covariance is the least te needs: any symmetric covariance (a *mat.SymDense
@@ -197,15 +199,15 @@ func (a *Analyzer) NumFactors() int { return a.k }
 // factor/specific split).
 func (a *Analyzer) Factored() bool { return a.factored }
 
-// MulVecTo sets dst to Σx and returns it; a nil dst is allocated. For an
-// optimizer the gradient of the tracking error is Σa / TE. It panics with
-// mat.ErrShape if x or a non-nil dst does not have length N. x is not
+// MulVecTo sets dst to Σx and returns it; a nil or empty dst is allocated.
+// For an optimizer the gradient of the tracking error is Σa / TE. It panics
+// with mat.ErrShape if x or a non-empty dst does not have length N. x is not
 // checked for finiteness. Cost O(N·K) in factor form, O(N²) dense.
 func (a *Analyzer) MulVecTo(dst, x []float64) []float64 {
 	if len(x) != a.n {
 		panic(mat.ErrShape)
 	}
-	dst = vecDst(dst, a.n)
+	dst = dense.SizeVec(dst, a.n)
 	if a.factored {
 		bx := make([]float64, 2*a.k)
 		a.factorMul(dst, x, bx[:a.k], bx[a.k:])
@@ -341,14 +343,4 @@ func dot(x, y []float64) float64 {
 		s += v * y[i]
 	}
 	return s
-}
-
-func vecDst(dst []float64, n int) []float64 {
-	if dst == nil {
-		return make([]float64, n)
-	}
-	if len(dst) != n {
-		panic(mat.ErrShape)
-	}
-	return dst
 }

@@ -57,6 +57,11 @@ func TestBadWeights(t *testing.T) {
 		d, err := an.Decompose(good, randomWeights(rng, n, n))
 		require.NoError(t, err)
 		require.PanicsWithValue(t, mat.ErrShape, func() { d.Groups(make([]string, n+1)) })
+		require.Equal(t, an.MulVecTo(nil, good), an.MulVecTo([]float64{}, good), "an empty dst is allocated")
+		gr := NewGrouping(randomLabels(rng, n, 3))
+		require.Equal(t, d.GroupsTo(nil, gr), d.GroupsTo([]Group{}, gr))
+		require.PanicsWithValue(t, mat.ErrShape, func() { d.GroupsTo(make([]Group, len(gr.Labels())+1), gr) },
+			"a dst whose length is not the number of groups")
 	}
 }
 
@@ -145,9 +150,9 @@ func TestBand(t *testing.T) {
 
 func TestRealizedBad(t *testing.T) {
 	_, err := Realized([]float64{0.01}, nil)
-	require.ErrorIs(t, err, ErrTooFew)
+	require.ErrorIs(t, err, ErrTooFewObs)
 	_, err = Realized(nil, &ExPostOptions{ZeroMean: true})
-	require.ErrorIs(t, err, ErrTooFew)
+	require.ErrorIs(t, err, ErrTooFewObs)
 	e, err := Realized([]float64{0.01}, &ExPostOptions{ZeroMean: true})
 	require.NoError(t, err)
 	require.InDelta(t, 0.01, e.TE, 1e-18)

@@ -15,7 +15,7 @@ var (
 	ErrEmpty     = errors.New("te: empty portfolio")
 	ErrDuplicate = errors.New("te: duplicate asset identifier")
 	ErrUncovered = errors.New("te: asset not covered by the model")
-	ErrTooFew    = errors.New("te: too few observations")
+	ErrTooFewObs = errors.New("te: too few observations")
 	ErrBand      = errors.New("te: invalid tracking-error band")
 )
 

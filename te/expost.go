@@ -26,12 +26,12 @@ type ExPostOptions struct {
 //
 // The default divisor T − 1 matches numpy's std(ddof=1). Realized returns
 // an *InputError wrapping ErrNonFinite for a non-finite return (naming its
-// index) and ErrTooFew for fewer than 2 returns (1 with ZeroMean). Cost O(T).
+// index) and ErrTooFewObs for fewer than 2 returns (1 with ZeroMean). Cost O(T).
 func Realized(active []float64, opts *ExPostOptions) (ExPost, error) {
 	zero := opts != nil && opts.ZeroMean
 	t := len(active)
 	if t < 2 && !(zero && t == 1) {
-		return ExPost{}, ErrTooFew
+		return ExPost{}, ErrTooFewObs
 	}
 	var sum float64
 	for i, v := range active {

@@ -6,6 +6,8 @@ import (
 
 	"gonum.org/v1/gonum/blas"
 	"gonum.org/v1/gonum/mat"
+
+	"github.com/riskmodel/riskmodel/internal/dense"
 )
 
 // Group is the part of the tracking error that falls on one group of assets
@@ -80,8 +82,9 @@ func (d *Decomposition) Groups(labels []string) []Group {
 }
 
 // GroupsTo sets dst to the decomposition by group, one Group per distinct
-// label in increasing order of label, and returns it; dst is reused when it
-// has the capacity, else allocated. The group contributions are sums of the
+// label in increasing order of label, and returns it. A nil or empty dst is
+// allocated; a dst whose length is not the number of groups panics with
+// mat.ErrShape. The group contributions are sums of the
 // asset contributions, so they sum to TE.
 //
 // GroupsTo panics with mat.ErrShape if the grouping does not label N assets.
@@ -97,11 +100,7 @@ func (d *Decomposition) GroupsTo(dst []Group, gr *Grouping) []Group {
 	if len(gr.of) != a.n {
 		panic(mat.ErrShape)
 	}
-	ng := len(gr.names)
-	if cap(dst) < ng {
-		dst = make([]Group, ng)
-	}
-	gs := dst[:ng]
+	gs := dense.SizeVec(dst, len(gr.names))
 	for g, s := range gr.names {
 		gs[g] = Group{Label: s, Members: len(gr.members[g])}
 	}

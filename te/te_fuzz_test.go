@@ -17,29 +17,11 @@ import (
 // the tracking error (Euler's theorem for a function homogeneous of degree
 // one; Litterman 1996). The seed corpus runs in every `go test`.
 
-var sentinels = []error{ErrNonFinite, ErrNegative, ErrNotPSD, ErrEmpty, ErrDuplicate, ErrUncovered, ErrTooFew, ErrBand}
+var sentinels = []error{ErrNonFinite, ErrNegative, ErrNotPSD, ErrEmpty, ErrDuplicate, ErrUncovered, ErrTooFewObs, ErrBand}
 
-type fuzzBytes []byte
-
-func (b *fuzzBytes) next() byte {
-	if len(*b) == 0 {
-		return 0
-	}
-	c := (*b)[0]
-	*b = (*b)[1:]
-	return c
-}
-
-func (b *fuzzBytes) value() float64 {
-	switch c := b.next(); c {
-	case 0xff:
-		return math.NaN()
-	case 0xfe:
-		return math.Inf(1)
-	default:
-		return float64(int8(c)) / 100
-	}
-}
+// specials: the top byte codes decode to NaN and +Inf
+// (fuzzcheck.Bytes.Value); the seed corpora depend on it.
+const specials = 2
 
 func FuzzDecompose(f *testing.F) {
 	f.Add([]byte{0, 3, 2, 10, 20, 30, 40, 50, 60, 100, 10, 100, 1, 2, 3, 50, 30, 20, 20, 40, 40})
@@ -48,9 +30,9 @@ func FuzzDecompose(f *testing.F) {
 	f.Add([]byte{0, 2, 1, 10, 20, 100, 0, 5, 5, 0, 0, 0, 0})
 	f.Add([]byte{1, 1, 0, 0, 0, 0})
 	f.Fuzz(func(t *testing.T, data []byte) {
-		b := fuzzBytes(data)
-		factored := b.next()%2 == 0
-		n, k := 1+int(b.next()%8), int(b.next()%4)
+		b := fuzzcheck.Bytes(data)
+		factored := b.Next()%2 == 0
+		n, k := 1+int(b.Next()%8), int(b.Next()%4)
 		var cov Covariance
 		if factored {
 			m := &factorModel{b: mat.NewDense(n, max(k, 1), nil), f: mat.NewSymDense(max(k, 1), nil), d: make([]float64, n)}
@@ -60,34 +42,34 @@ func FuzzDecompose(f *testing.F) {
 			a := mat.NewDense(k, k, nil)
 			for i := 0; i < n; i++ {
 				for j := 0; j < k; j++ {
-					m.b.Set(i, j, b.value())
+					m.b.Set(i, j, b.Value(specials))
 				}
 			}
 			for i := 0; i < k; i++ {
 				for j := 0; j < k; j++ {
-					a.Set(i, j, b.value()/10)
+					a.Set(i, j, b.Value(specials)/10)
 				}
 			}
 			m.f.SymOuterK(1, a)
 			for i := range m.d {
-				m.d[i] = b.value() / 100
+				m.d[i] = b.Value(specials) / 100
 			}
 			cov = m
 		} else {
 			s := mat.NewSymDense(n, nil)
 			for i := 0; i < n; i++ {
 				for j := i; j < n; j++ {
-					s.SetSym(i, j, b.value()/100)
+					s.SetSym(i, j, b.Value(specials)/100)
 				}
 			}
 			cov = s
 		}
 		p, bm := make([]float64, n), make([]float64, n)
 		for i := range p {
-			p[i] = b.value()
+			p[i] = b.Value(specials)
 		}
 		for i := range bm {
-			bm[i] = b.value()
+			bm[i] = b.Value(specials)
 		}
 		an, err := NewAnalyzer(cov)
 		if err != nil {

@@ -223,8 +223,8 @@ func build(cfg config, in *inputs, asof riskmodel.Date, prev *riskmodel.Model, l
 func isDataError(err error) bool {
 	for _, e := range []error{
 		riskmodel.ErrEmpty, riskmodel.ErrMethod,
-		factor.ErrNoObservations, factor.ErrEmptyDate, factor.ErrTooManyFactors, factor.ErrTooFewData, factor.ErrSettings,
-		ewma.ErrHalfLife, ewma.ErrLags, ewma.ErrTooFew, ewma.ErrAllMissing, ewma.ErrEffectiveObs, ewma.ErrZeroVariance,
+		factor.ErrNoObservations, factor.ErrEmptyDate, factor.ErrTooManyFactors, factor.ErrTooFewObs, factor.ErrSettings,
+		ewma.ErrHalfLife, ewma.ErrLags, ewma.ErrTooFewObs, ewma.ErrAllMissing, ewma.ErrEffectiveObs, ewma.ErrZeroVariance,
 		shrink.ErrTooFewObs, shrink.ErrZeroVariance, shrink.ErrWeights, shrink.ErrBadParameter,
 	} {
 		if errors.Is(err, e) {

@@ -320,8 +320,15 @@ func accumulate(c []float64, ldc, m, n, k int, p, q *operand, upper, add bool, k
 	})
 }
 
-// parallel calls f(0), …, f(n-1) on up to workers goroutines. Which
-// goroutine runs which call varies; f must not depend on it.
+// Parallel calls f(0), …, f(n-1) on up to GOMAXPROCS goroutines and returns
+// when all have returned. Which goroutine runs which call, and in which order
+// the calls run, varies: f must not depend on either, so a result that each
+// f(i) writes to its own place is bit-identical for any GOMAXPROCS.
+func Parallel(n int, f func(i int)) {
+	parallel(n, runtime.GOMAXPROCS(0), f)
+}
+
+// parallel is Parallel on up to workers goroutines.
 func parallel(n, workers int, f func(int)) {
 	workers = min(workers, n)
 	if workers <= 1 {

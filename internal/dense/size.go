@@ -19,10 +19,17 @@ func SizeSym(dst *mat.SymDense, n int) *mat.SymDense {
 		}
 		return dst
 	}
-	if dst.SymmetricDim() != n {
+	CheckSym(dst, n)
+	return dst
+}
+
+// CheckSym panics with mat.ErrShape unless dst is nil, empty or n×n: the
+// check of SizeSym without the allocation, for a function that must reject a
+// wrong-sized dst before it reads its data.
+func CheckSym(dst *mat.SymDense, n int) {
+	if dst != nil && !dst.IsEmpty() && dst.SymmetricDim() != n {
 		panic(mat.ErrShape)
 	}
-	return dst
 }
 
 // SizeDense is SizeSym for an r×c general matrix.
@@ -43,4 +50,18 @@ func SizeDense(dst *mat.Dense, r, c int) *mat.Dense {
 		panic(mat.ErrShape)
 	}
 	return dst
+}
+
+// SizeVec is SizeSym for a slice of length n: a nil or zero-length dst is
+// allocated, one of length n is returned as it is, one of another length
+// panics with mat.ErrShape. The capacity of an empty dst is not reused, so a
+// dst of x[:0] cannot overwrite an input x.
+func SizeVec[T any](dst []T, n int) []T {
+	switch {
+	case len(dst) == n:
+		return dst
+	case len(dst) != 0:
+		panic(mat.ErrShape)
+	}
+	return make([]T, n)
 }
