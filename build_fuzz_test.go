@@ -10,6 +10,7 @@ import (
 
 	"github.com/riskmodel/riskmodel/ewma"
 	"github.com/riskmodel/riskmodel/factor"
+	"github.com/riskmodel/riskmodel/internal/fuzzcheck"
 	"github.com/riskmodel/riskmodel/shrink"
 )
 
@@ -29,22 +30,10 @@ var buildSentinels = []error{ErrMethod, ErrEmpty, ErrDuplicate, ErrImpossible, E
 	factor.ErrTooFewObs, factor.ErrSettings, factor.ErrNotPSD, factor.ErrSpecificVariance,
 	factor.ErrPrevious, factor.ErrSingular, factor.ErrEmptySector, factor.ErrCap}
 
-// buildBytes hands out the fuzz input a byte at a time, then zeros.
-type buildBytes []byte
-
-func (b *buildBytes) next() byte {
-	if len(*b) == 0 {
-		return 0
-	}
-	c := (*b)[0]
-	*b = (*b)[1:]
-	return c
-}
-
 // fuzzBuildPanel decodes a T×N panel of returns in [−0.5, 0.77] (0xff is a
 // missing return).
-func fuzzBuildPanel(b *buildBytes) *Panel {
-	t, n := 2+int(b.next()%23), 1+int(b.next()%6)
+func fuzzBuildPanel(b *fuzzcheck.Bytes) *Panel {
+	t, n := 2+int(b.Next()%23), 1+int(b.Next()%6)
 	dates := make([]Date, t)
 	for i := range dates {
 		dates[i] = DateOf(2024, 1, 1).AddDays(i)
@@ -54,7 +43,7 @@ func fuzzBuildPanel(b *buildBytes) *Panel {
 	for j := range assets {
 		assets[j] = "QX" + string(rune('A'+j))
 		for i := 0; i < t; i++ {
-			c := b.next()
+			c := b.Next()
 			v := (float64(c) - 128) / 250
 			if c == 0xff {
 				v = math.NaN()
@@ -78,24 +67,24 @@ func FuzzBuild(f *testing.F) {
 		f.Add(seed)
 	}
 	f.Fuzz(func(t *testing.T, data []byte) {
-		b := buildBytes(data)
-		method := Methods[int(b.next())%len(Methods)]
+		b := fuzzcheck.Bytes(data)
+		method := Methods[int(b.Next())%len(Methods)]
 		opts := &BuildOptions{
 			Method:       method,
-			Window:       int(b.next() % 30),
-			MinObs:       int(b.next() % 6),
-			Factors:      int(b.next() % 4),
-			VolHalfLife:  float64(b.next() % 30),
-			CorrHalfLife: float64(b.next() % 30),
+			Window:       int(b.Next() % 30),
+			MinObs:       int(b.Next() % 6),
+			Factors:      int(b.Next() % 4),
+			VolHalfLife:  float64(b.Next() % 30),
+			CorrHalfLife: float64(b.Next() % 30),
 		}
-		if c := b.next(); c%4 == 0 {
+		if c := b.Next(); c%4 == 0 {
 			opts.NeweyWestLags = int(c/4%3) - 1
 		}
 		p := fuzzBuildPanel(&b)
 		sectors, caps := map[string]string{}, map[string]float64{}
 		for _, a := range p.assets {
-			sectors[a] = string(rune('A' + b.next()%2))
-			caps[a] = float64(b.next()) * 1e7
+			sectors[a] = string(rune('A' + b.Next()%2))
+			caps[a] = float64(b.Next()) * 1e7
 		}
 		opts.Sectors, opts.MarketCaps = sectors, caps
 		tt, _ := p.Dims()
