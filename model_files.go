@@ -1,6 +1,7 @@
 package riskmodel
 
 import (
+	"bufio"
 	"bytes"
 	"crypto/sha256"
 	"encoding/gob"
@@ -105,12 +106,12 @@ func SaveModel(dir string, m *Model) error {
 		Notes:          m.Notes,
 		Files:          map[string]string{},
 	}
-	put := func(name string, data []byte) error {
-		if err := writeSynced(filepath.Join(dir, name), data); err != nil {
+	put := func(name string, write func(io.Writer) error) error {
+		sum, err := writeFileSynced(filepath.Join(dir, name), write)
+		if err != nil {
 			return err
 		}
-		sum := sha256.Sum256(data)
-		man.Files[name] = hex.EncodeToString(sum[:])
+		man.Files[name] = sum
 		return nil
 	}
 	if f := m.Factor; f != nil {
@@ -126,7 +127,7 @@ func SaveModel(dir string, m *Model) error {
 		if err := gob.NewEncoder(&buf).Encode(info); err != nil {
 			return fmt.Errorf("riskmodel: save model: encode factor record: %w", err)
 		}
-		if err := put(factorInfoFile, buf.Bytes()); err != nil {
+		if err := put(factorInfoFile, writeBytes(buf.Bytes())); err != nil {
 			return err
 		}
 	} else {
@@ -145,7 +146,7 @@ func SaveModel(dir string, m *Model) error {
 	return syncDir(dir)
 }
 
-func saveFactorFiles(f *factor.Model, assets []string, put func(string, []byte) error) error {
+func saveFactorFiles(f *factor.Model, assets []string, put putFunc) error {
 	d := f.SpecificVariancesTo(nil)
 	rows := make([]assetRow, len(assets))
 	for i, a := range assets {
@@ -179,7 +180,24 @@ func saveFactorFiles(f *factor.Model, assets []string, put func(string, []byte) 
 	return putParquet(factorCovFile, frows, put)
 }
 
-func saveDenseFiles(s *mat.SymDense, assets []string, put func(string, []byte) error) error {
+// putFunc writes one file of a model folder through write and records its
+// checksum.
+type putFunc func(name string, write func(io.Writer) error) error
+
+func writeBytes(data []byte) func(io.Writer) error {
+	return func(w io.Writer) error { _, err := w.Write(data); return err }
+}
+
+// denseChunk is the number of covariance elements saveDenseFiles converts to
+// rows at a time: the rows of a 6000-asset model would take 290 MB at once.
+const denseChunk = 1 << 16
+
+// saveDenseFiles writes the assets with their variances and the upper
+// triangle of s, row by row, as (row, col, covariance) with 0-based indices
+// into the asset file's order. The rows are made and written a chunk at a
+// time, so the memory beyond s is O(denseChunk) plus the Parquet writer's
+// buffers of one row group.
+func saveDenseFiles(s *mat.SymDense, assets []string, put putFunc) error {
 	n := len(assets)
 	rows := make([]assetRow, n)
 	for i, a := range assets {
@@ -188,25 +206,42 @@ func saveDenseFiles(s *mat.SymDense, assets []string, put func(string, []byte) e
 	if err := putParquet(assetsFile, rows, put); err != nil {
 		return err
 	}
-	crows := make([]denseCovRow, 0, n*(n+1)/2)
-	for i := 0; i < n; i++ {
-		for j := i; j < n; j++ {
-			crows = append(crows, denseCovRow{Row: int32(i), Col: int32(j), Covariance: s.At(i, j)})
+	raw := s.RawSymmetric()
+	return put(denseCovFile, func(w io.Writer) error {
+		pw := parquet.NewGenericWriter[denseCovRow](w, parquet.Compression(&parquet.Zstd), parquet.MaxRowsPerRowGroup(1<<20))
+		chunk := make([]denseCovRow, 0, denseChunk)
+		for i := 0; i < n; i++ {
+			for j, v := range raw.Data[i*raw.Stride+i : i*raw.Stride+n] {
+				chunk = append(chunk, denseCovRow{Row: int32(i), Col: int32(i + j), Covariance: v})
+				if len(chunk) == cap(chunk) {
+					if _, err := pw.Write(chunk); err != nil {
+						return fmt.Errorf("riskmodel: save model: %s: %w", denseCovFile, err)
+					}
+					chunk = chunk[:0]
+				}
+			}
 		}
-	}
-	return putParquet(denseCovFile, crows, put)
+		if _, err := pw.Write(chunk); err != nil {
+			return fmt.Errorf("riskmodel: save model: %s: %w", denseCovFile, err)
+		}
+		if err := pw.Close(); err != nil {
+			return fmt.Errorf("riskmodel: save model: %s: %w", denseCovFile, err)
+		}
+		return nil
+	})
 }
 
-func putParquet[T any](name string, rows []T, put func(string, []byte) error) error {
-	var buf bytes.Buffer
-	w := parquet.NewGenericWriter[T](&buf, parquet.Compression(&parquet.Zstd), parquet.MaxRowsPerRowGroup(1<<20))
-	if _, err := w.Write(rows); err != nil {
-		return fmt.Errorf("riskmodel: save model: %s: %w", name, err)
-	}
-	if err := w.Close(); err != nil {
-		return fmt.Errorf("riskmodel: save model: %s: %w", name, err)
-	}
-	return put(name, buf.Bytes())
+func putParquet[T any](name string, rows []T, put putFunc) error {
+	return put(name, func(out io.Writer) error {
+		w := parquet.NewGenericWriter[T](out, parquet.Compression(&parquet.Zstd), parquet.MaxRowsPerRowGroup(1<<20))
+		if _, err := w.Write(rows); err != nil {
+			return fmt.Errorf("riskmodel: save model: %s: %w", name, err)
+		}
+		if err := w.Close(); err != nil {
+			return fmt.Errorf("riskmodel: save model: %s: %w", name, err)
+		}
+		return nil
+	})
 }
 
 // LoadModel reads a model folder written by SaveModel, or the current model of
@@ -356,65 +391,97 @@ func loadFactor(man manifest, arows []assetRow, get func(string) ([]byte, error)
 }
 
 func loadDense(n int, get func(string) ([]byte, error), bad func(string, ...any) error) (*mat.SymDense, error) {
-	crows, err := getParquet[denseCovRow](denseCovFile, get)
+	s := mat.NewSymDense(n, nil)
+	want := n * (n + 1) / 2
+	count := 0
+	err := eachParquetRow(denseCovFile, get, func(r denseCovRow) error {
+		i, j := int(r.Row), int(r.Col)
+		if i < 0 || j < i || j >= n {
+			return bad("%s: element (%d, %d) outside the upper triangle of %d assets", denseCovFile, i, j, n)
+		}
+		count++
+		if count > want {
+			return bad("%s has more than the %d elements of %d assets", denseCovFile, want, n)
+		}
+		s.SetSym(i, j, r.Covariance)
+		return nil
+	})
 	if err != nil {
 		return nil, err
 	}
-	if len(crows) != n*(n+1)/2 {
-		return nil, bad("%s has %d elements, want %d for %d assets", denseCovFile, len(crows), n*(n+1)/2, n)
-	}
-	s := mat.NewSymDense(n, nil)
-	for _, r := range crows {
-		i, j := int(r.Row), int(r.Col)
-		if i < 0 || j < i || j >= n {
-			return nil, bad("%s: element (%d, %d) outside the upper triangle of %d assets", denseCovFile, i, j, n)
-		}
-		s.SetSym(i, j, r.Covariance)
+	if count != want {
+		return nil, bad("%s has %d elements, want %d for %d assets", denseCovFile, count, want, n)
 	}
 	return s, nil
 }
 
 func getParquet[T any](name string, get func(string) ([]byte, error)) ([]T, error) {
+	var out []T
+	err := eachParquetRow(name, get, func(r T) error { out = append(out, r); return nil })
+	return out, err
+}
+
+// eachParquetRow calls fn on every row of the named file, reading 8192 rows
+// at a time, and stops at fn's first error.
+func eachParquetRow[T any](name string, get func(string) ([]byte, error), fn func(T) error) error {
 	data, err := get(name)
 	if err != nil {
-		return nil, err
+		return err
 	}
 	rd := bytes.NewReader(data)
 	f, err := parquet.OpenFile(rd, int64(len(data)))
 	if err != nil {
-		return nil, fmt.Errorf("riskmodel: load model: %w: %s: %v", ErrInvalidModel, name, err)
+		return fmt.Errorf("riskmodel: load model: %w: %s: %v", ErrInvalidModel, name, err)
 	}
 	r := parquet.NewGenericReader[T](f)
 	defer r.Close()
-	out := make([]T, 0, f.NumRows())
 	buf := make([]T, 8192)
 	for {
 		n, err := r.Read(buf)
-		out = append(out, buf[:n]...)
+		for _, row := range buf[:n] {
+			if ferr := fn(row); ferr != nil {
+				return ferr
+			}
+		}
 		if err == io.EOF {
-			break
+			return nil
 		}
 		if err != nil {
-			return nil, fmt.Errorf("riskmodel: load model: %w: %s: %v", ErrInvalidModel, name, err)
+			return fmt.Errorf("riskmodel: load model: %w: %s: %v", ErrInvalidModel, name, err)
 		}
 	}
-	return out, nil
 }
 
 func writeSynced(path string, data []byte) error {
+	_, err := writeFileSynced(path, writeBytes(data))
+	return err
+}
+
+// writeFileSynced creates path (which must not exist), fills it through
+// write, syncs it and returns the hex SHA-256 of what was written.
+func writeFileSynced(path string, write func(io.Writer) error) (string, error) {
 	f, err := os.OpenFile(path, os.O_CREATE|os.O_EXCL|os.O_WRONLY, 0o644)
 	if err != nil {
-		return err
+		return "", err
 	}
-	if _, err := f.Write(data); err != nil {
+	h := sha256.New()
+	bw := bufio.NewWriterSize(io.MultiWriter(f, h), 1<<20)
+	if err := write(bw); err != nil {
 		f.Close()
-		return err
+		return "", err
+	}
+	if err := bw.Flush(); err != nil {
+		f.Close()
+		return "", err
 	}
 	if err := f.Sync(); err != nil {
 		f.Close()
-		return err
+		return "", err
 	}
-	return f.Close()
+	if err := f.Close(); err != nil {
+		return "", err
+	}
+	return hex.EncodeToString(h.Sum(nil)), nil
 }
 
 func syncDir(dir string) error {
