@@ -139,7 +139,7 @@ func reportStep(x float64) float64 {
 // htmlTable is one table of the page, built from the text form's cells.
 type htmlTable struct {
 	ID, Title string
-	Head      []string
+	Head      []htmlCell
 	Rows      []htmlRow
 }
 
@@ -162,7 +162,7 @@ func (a *Attribution) htmlTables() []htmlTable {
 		if len(tb.rows) == 0 {
 			continue
 		}
-		ht := htmlTable{Title: tb.title, Head: tb.head}
+		ht := htmlTable{Title: tb.title}
 		rowClass := ""
 		switch {
 		case k < len(a.Groupings):
@@ -190,6 +190,14 @@ func (a *Attribution) htmlTables() []htmlTable {
 				row.Cells = append(row.Cells, cell)
 			}
 			ht.Rows = append(ht.Rows, row)
+		}
+		// A heading aligns with its column: left over text.
+		for j, h := range tb.head {
+			c := htmlCell{Text: h}
+			if j > 0 && ht.Rows[0].Cells[j].Class == "l" {
+				c.Class = "l"
+			}
+			ht.Head = append(ht.Head, c)
 		}
 		out = append(out, ht)
 	}
@@ -227,8 +235,8 @@ table.about td { text-align: left; }
 .headline div { background: #f3f6fa; border-radius: 6px; padding: 0.6em 1em; flex: 1; min-width: 7em; }
 .headline b { display: block; font-size: 1.35em; }
 .headline span { color: #5b6878; font-size: 0.85em; }
-table { border-collapse: collapse; width: 100%; font-size: 0.9em; }
-th, td { padding: 0.3em 0.6em; text-align: right; border-bottom: 1px solid #e6eaf0; white-space: nowrap; }
+table { border-collapse: collapse; width: 100%; font-size: 0.85em; }
+th, td { padding: 0.3em 0.45em; text-align: right; border-bottom: 1px solid #e6eaf0; white-space: nowrap; }
 th:first-child, td:first-child, th.l, td.l { text-align: left; }
 th { background: #f3f6fa; font-weight: 600; }
 tr.total td { font-weight: 600; border-top: 2px solid #c3ccd8; }
@@ -313,7 +321,7 @@ svg text { font-family: system-ui, -apple-system, "Segoe UI", sans-serif; font-s
 
 <h2>{{.Title}}</h2>
 <table id="{{.ID}}">
-<thead><tr>{{range .Head}}<th>{{.}}</th>{{end}}</tr></thead>
+<thead><tr>{{range .Head}}<th{{if .Class}} class="{{.Class}}"{{end}}>{{.Text}}</th>{{end}}</tr></thead>
 <tbody>
 {{- range .Rows}}
 <tr{{if .Class}} class="{{.Class}}"{{end}}>{{range .Cells}}<td{{if .Class}} class="{{.Class}}"{{end}}>{{.Text}}</td>{{end}}</tr>

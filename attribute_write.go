@@ -23,8 +23,15 @@ func (a *Attribution) WriteJSON(w io.Writer) error {
 // specific figure of a dense model (the CSV leaves the cell empty).
 const notAvailable = "n/a"
 
-// pct formats a fraction as a percentage with three decimals.
-func pct(x float64) string { return strconv.FormatFloat(100*x, 'f', 3, 64) }
+// pct formats a fraction as a percentage with three decimals; a value that
+// rounds to zero prints without a sign.
+func pct(x float64) string {
+	s := strconv.FormatFloat(100*x, 'f', 3, 64)
+	if s == "-0.000" {
+		return "0.000"
+	}
+	return s
+}
 
 // pctOr is pct(x), or n/a when the report has no factor split.
 func (a *Attribution) pctOr(x float64) string {
