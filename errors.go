@@ -58,6 +58,17 @@ var (
 	// ErrNoHoldings reports a portfolio with no weight on any asset.
 	ErrNoHoldings = errors.New("portfolio holds nothing")
 
+	// ErrPercentWeights reports holdings whose weights sum to about 100:
+	// percent typed where fractions of capital are meant.
+	ErrPercentWeights = errors.New("weights look like percent; give fractions of capital (0.02 = 2 %)")
+
+	// ErrWeightRange reports a weight no fraction of capital can have, or a
+	// negative weight in a portfolio declared long-only.
+	ErrWeightRange = errors.New("weight is out of range")
+
+	// ErrWeightSum reports a long-only portfolio whose weights do not sum to 1.
+	ErrWeightSum = errors.New("weights do not sum to 1")
+
 	// ErrInvalidModel reports a model that fails validation or whose files are
 	// inconsistent.
 	ErrInvalidModel = errors.New("invalid model")

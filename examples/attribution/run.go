@@ -31,9 +31,11 @@ var (
 
 type config struct {
 	model, portfolio, benchmark, assets string
-	group, format, out                  string
+	format, out                         string
+	groups                              []string
 	band                                *te.Band
 	top                                 int
+	longOnly, shorts                    bool
 }
 
 // badInput marks an error caused by the user's flags or files.
@@ -48,7 +50,7 @@ func run(args []string, stdout, stderr io.Writer) int {
 		return exitOK
 	}
 	if err == nil {
-		err = report(cfg, stdout)
+		err = report(cfg, stdout, stderr)
 	}
 	if err == nil {
 		return exitOK
@@ -80,8 +82,10 @@ Flags:
 	fs.StringVar(&cfg.portfolio, "portfolio", "", "portfolio holdings, CSV or Parquet with asset,weight (default <repository>/"+defaultPortfolio+")")
 	fs.StringVar(&cfg.benchmark, "benchmark", "", "benchmark holdings (default <repository>/"+defaultBenchmark+")")
 	fs.StringVar(&cfg.assets, "assets", "", "asset metadata, CSV or Parquet (default <repository>/"+defaultAssets+")")
-	fs.StringVar(&cfg.group, "group", riskmodel.DefaultGroupBy, "metadata column to attribute by: sector, size_bucket or any other column")
+	group := fs.String("group", riskmodel.DefaultGroupBy, "metadata columns to attribute by, comma-separated (sector,size_bucket: also their cross table)")
 	band := fs.String("band", "", "tracking-error band lower,upper, annualised fractions (0.01,0.03); 0 means no floor or no ceiling")
+	fs.BoolVar(&cfg.longOnly, "long-only", false, "the portfolio is a long-only fund: refuse negative weights and weights not summing to 1")
+	fs.BoolVar(&cfg.shorts, "shorts", false, "let the hedges of a long-only portfolio sell more than the holding")
 	fs.StringVar(&cfg.format, "format", "text", "output format: text, csv, json or html")
 	fs.StringVar(&cfg.out, "o", "", "write the report to this file (default stdout)")
 	fs.IntVar(&cfg.top, "top", riskmodel.DefaultTopNames, "number of single names listed as contributors and hedges")
@@ -101,6 +105,12 @@ Flags:
 	}
 	if cfg.top < 1 {
 		return cfg, badInput{fmt.Errorf("-top must be at least 1, got %d", cfg.top)}
+	}
+	for _, g := range strings.Split(*group, ",") {
+		if g = strings.TrimSpace(g); g == "" {
+			return cfg, badInput{fmt.Errorf("-group %q: an empty column name", *group)}
+		}
+		cfg.groups = append(cfg.groups, strings.TrimSpace(g))
 	}
 	if *band != "" {
 		b, err := parseBand(*band)
@@ -127,10 +137,13 @@ func parseBand(s string) (te.Band, error) {
 	if _, err := b.Check(0); err != nil && errors.Is(err, te.ErrBand) {
 		return te.Band{}, fmt.Errorf("-band %q: %w", s, err)
 	}
+	if l >= 1 || u >= 1 {
+		return te.Band{}, fmt.Errorf("-band %q: limits of 100 %% or more look like percent; give annualised fractions such as 0.01,0.03", s)
+	}
 	return b, nil
 }
 
-func report(cfg config, stdout io.Writer) error {
+func report(cfg config, stdout, stderr io.Writer) error {
 	root := ""
 	if cfg.model == "" || cfg.portfolio == "" || cfg.benchmark == "" || cfg.assets == "" {
 		wd, err := os.Getwd()
@@ -150,6 +163,9 @@ func report(cfg config, stdout io.Writer) error {
 	cfg.portfolio = orDefault(cfg.portfolio, defaultPortfolio)
 	cfg.benchmark = orDefault(cfg.benchmark, defaultBenchmark)
 	cfg.assets = orDefault(cfg.assets, defaultAssets)
+	if err := checkOutput(cfg.out, cfg.model, cfg.portfolio, cfg.benchmark, cfg.assets); err != nil {
+		return badInput{err}
+	}
 	assets, err := riskmodel.ReadAssets(cfg.assets)
 	if err != nil {
 		return badInput{err}
@@ -166,34 +182,34 @@ func report(cfg config, stdout io.Writer) error {
 	if err != nil {
 		return err
 	}
-	a, err := riskmodel.Attribute(m, port, bench, assets, &riskmodel.AttributionOptions{GroupBy: cfg.group, Top: cfg.top, Band: cfg.band})
+	a, err := riskmodel.Attribute(m, port, bench, assets, &riskmodel.AttributionOptions{
+		GroupBy: cfg.groups, Top: cfg.top, Band: cfg.band, LongOnly: cfg.longOnly, Shorts: cfg.shorts,
+		PortfolioName: cfg.portfolio, BenchmarkName: cfg.benchmark,
+	})
 	if err != nil {
 		return badInput{err}
 	}
-	w := stdout
-	var f *os.File
-	if cfg.out != "" {
-		if f, err = os.Create(cfg.out); err != nil {
-			return badInput{fmt.Errorf("-o: %w", err)}
+	for _, x := range a.Warnings {
+		fmt.Fprintf(stderr, "attribution: warning: %s\n", x)
+	}
+	write := func(w io.Writer) error {
+		switch cfg.format {
+		case "csv":
+			return a.WriteCSV(w)
+		case "json":
+			return a.WriteJSON(w)
+		case "html":
+			return a.WriteHTML(w)
 		}
-		w = f
+		return a.WriteText(w)
 	}
-	switch cfg.format {
-	case "csv":
-		err = a.WriteCSV(w)
-	case "json":
-		err = a.WriteJSON(w)
-	case "html":
-		err = a.WriteHTML(w)
-	default:
-		err = a.WriteText(w)
+	if cfg.out == "" {
+		return write(stdout)
 	}
-	if f != nil {
-		if cerr := f.Close(); err == nil {
-			err = cerr
-		}
+	if err := writeFileAtomic(cfg.out, write); err != nil {
+		return fmt.Errorf("-o: %w", err)
 	}
-	return err
+	return nil
 }
 
 // loadModel reads the model folder or store, or builds a factor model from

@@ -57,6 +57,7 @@ func TestSmallFile(t *testing.T) {
 	code := run([]string{"-returns", filepath.Join("..", "..", "testdata", "demo", "returns_small.csv"),
 		"-methods", "ledoit-wolf,single-index", "-window", "63", "-format", "csv", "-chart", chart, "-portfolios", "10"}, &out, &errw)
 	require.Equal(t, exitOK, code, errw.String())
+	require.Contains(t, errw.String(), "evaluate: caution: Forecasts are statistical estimates")
 	recs, err := csv.NewReader(&out).ReadAll()
 	require.NoError(t, err)
 	require.Len(t, recs, 3)
@@ -78,5 +79,6 @@ func TestDefaultDemo(t *testing.T) {
 	text := out.String()
 	require.Contains(t, text, "oracle")
 	require.Contains(t, text, "Use ")
+	require.Contains(t, text, "Caution: Forecasts are statistical estimates")
 	require.Contains(t, text, "3 rebalance dates")
 }

@@ -79,6 +79,8 @@ func runEvaluation(cfg config, stdout, stderr io.Writer) error {
 	switch cfg.format {
 	case "csv":
 		err = ev.WriteCSV(stdout)
+		// A CSV table has no room for prose: the caution goes to stderr.
+		fmt.Fprintf(stderr, "evaluate: caution: %s\n", riskmodel.Caution)
 	case "json":
 		err = ev.WriteJSON(stdout)
 	default:

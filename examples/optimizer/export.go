@@ -26,7 +26,13 @@ func export(dir string, m *riskmodel.Model, cov te.Covariance, pr *problem, w []
 	}
 	f := func(x float64) string { return strconv.FormatFloat(x, 'g', -1, 64) }
 	k, n := g.Dims()
-	rows := [][]string{append([]string{"factor"}, pr.assets...)}
+	// A dense Σ has no factor form: its square root is the Cholesky factor,
+	// N×N, and there is no specific part.
+	name, first := "sqrt_factor.csv", "factor"
+	if s == nil {
+		name, first = "cholesky_factor.csv", "row"
+	}
+	rows := [][]string{append([]string{first}, pr.assets...)}
 	for i := 0; i < k; i++ {
 		r := []string{names[i]}
 		for j := 0; j < n; j++ {
@@ -34,15 +40,17 @@ func export(dir string, m *riskmodel.Model, cov te.Covariance, pr *problem, w []
 		}
 		rows = append(rows, r)
 	}
-	if err := writeCSV(filepath.Join(dir, "sqrt_factor.csv"), rows); err != nil {
+	if err := writeCSV(filepath.Join(dir, name), rows); err != nil {
 		return err
 	}
-	rows = [][]string{{"asset", "specific_volatility"}}
-	for j, a := range pr.assets {
-		rows = append(rows, []string{a, f(s[j])})
-	}
-	if err := writeCSV(filepath.Join(dir, "sqrt_specific.csv"), rows); err != nil {
-		return err
+	if s != nil {
+		rows = [][]string{{"asset", "specific_volatility"}}
+		for j, a := range pr.assets {
+			rows = append(rows, []string{a, f(s[j])})
+		}
+		if err := writeCSV(filepath.Join(dir, "sqrt_specific.csv"), rows); err != nil {
+			return err
+		}
 	}
 	rows = [][]string{{"asset", "benchmark", "start", "optimized", "max_weight"}}
 	for j, a := range pr.assets {
@@ -52,7 +60,8 @@ func export(dir string, m *riskmodel.Model, cov te.Covariance, pr *problem, w []
 }
 
 // sqrtForm returns g (K×N) and s (N) with Σ = gᵀg + diag(s²): the factor
-// model's SqrtTo, or the transposed Cholesky factor of a dense Σ with s = 0.
+// model's SqrtTo, or for a dense Σ the transposed Cholesky factor Lᵀ
+// (N×N, upper triangular, Σ = L·Lᵀ) with s nil.
 func sqrtForm(cov te.Covariance) (*mat.Dense, []float64, []string, error) {
 	if fm, ok := cov.(*factor.Model); ok {
 		g, s := fm.SqrtTo(nil, nil)
@@ -68,9 +77,9 @@ func sqrtForm(cov te.Covariance) (*mat.Dense, []float64, []string, error) {
 	g := mat.DenseCopyOf(l.T())
 	names := make([]string, n)
 	for i := range names {
-		names[i] = "c" + strconv.Itoa(i+1)
+		names[i] = "r" + strconv.Itoa(i+1)
 	}
-	return g, make([]float64, n), names, nil
+	return g, nil, names, nil
 }
 
 func writeCSV(path string, rows [][]string) error {

@@ -37,8 +37,17 @@
 //	problem.csv        asset,benchmark,start,optimized,max_weight
 //
 // so that ‖g·x‖² + Σ_i (s_i·x_i)² = xᵀΣx and the cone solver's problem is
-// min ‖(g·(w − b), s∘(w − b))‖₂ under its own constraints. A dense model is
-// exported through its Cholesky factor (g = Lᵀ, N×N; s = 0).
+// min ‖(g·(w − b), s∘(w − b))‖₂ under its own constraints. A dense model has
+// no factor form; it is exported instead as
+//
+//	cholesky_factor.csv  the N×N upper-triangular Lᵀ of Σ = L·Lᵀ, header row,<asset>…, rows r1..rN
+//
+// (‖Lᵀx‖² = xᵀΣx; no sqrt_specific.csv).
+//
+// It prints the fund's own tracking error (the holdings as given, over the
+// whole model), the start's once projected onto the constraints (the
+// benchmark's names, the caps, fully invested), the optimised one, the band
+// check against -band (default 0 to 2 %) and the caution.
 //
 // Exit status: 0 done; 2 bad input (flags or files) with a one-line reason;
 // 1 any other failure.

@@ -87,7 +87,7 @@ Flags:
 	fs.StringVar(&cfg.benchmark, "benchmark", "", "benchmark holdings, the universe (default <repository>/"+defaultBenchmark+")")
 	fs.Float64Var(&cfg.maxWeight, "max-weight", 0.03, "largest weight of one name")
 	fs.IntVar(&cfg.names, "names", 0, "hold only the N largest benchmark names (0: all)")
-	band := fs.String("band", "0,0.01", "tracking-error band lower,upper, annualised; 0 means no floor or no ceiling")
+	band := fs.String("band", "0,0.02", "tracking-error band lower,upper, annualised fractions; 0 means no floor or no ceiling")
 	fs.IntVar(&cfg.iterations, "iterations", 5000, "largest number of gradient steps")
 	fs.Float64Var(&cfg.tol, "tol", 1e-10, "stop when no weight moves more than this in a step")
 	fs.StringVar(&cfg.export, "export", filepath.Join(os.TempDir(), "riskmodel-optimizer"), "folder for the square-root form and the weights (CSV)")
@@ -121,6 +121,9 @@ Flags:
 	cfg.band = te.Band{Lower: l, Upper: u}
 	if _, err := cfg.band.Check(0); errors.Is(err, te.ErrBand) {
 		return cfg, badInput{fmt.Errorf("-band %q: %w", *band, err)}
+	}
+	if l >= 1 || u >= 1 {
+		return cfg, badInput{fmt.Errorf("-band %q: limits of 100 %% or more look like percent; give annualised fractions such as 0,0.02", *band)}
 	}
 	return cfg, nil
 }
@@ -167,6 +170,10 @@ func optimize(cfg config, stdout io.Writer) error {
 	if err != nil {
 		return err
 	}
+	own, err := fundTE(m, port, bench)
+	if err != nil {
+		return badInput{err}
+	}
 	pr, err := align(m, port, bench, cfg)
 	if err != nil {
 		return badInput{err}
@@ -191,8 +198,27 @@ func optimize(cfg config, stdout io.Writer) error {
 	if err := export(cfg.export, m, cov, pr, w); err != nil {
 		return err
 	}
-	printResult(stdout, cfg, m, pr, w, path, before, after, check, an.Factored())
+	printResult(stdout, cfg, m, pr, w, path, [3]float64{own, before, after}, check, an.Factored())
 	return nil
+}
+
+// fundTE returns the starting portfolio's own tracking error, annualised,
+// over the whole model (held names it does not cover as cash), before any
+// projection onto the rebalancer's universe and caps.
+func fundTE(m *riskmodel.Model, port, bench []riskmodel.Holding) (float64, error) {
+	al, err := te.Align(m.Assets, riskmodel.HoldingsMap(port), riskmodel.HoldingsMap(bench), &te.AlignOptions{UncoveredAsCash: true})
+	if err != nil {
+		return 0, fmt.Errorf("starting portfolio: %w", err)
+	}
+	an, err := te.NewAnalyzer(m.Covariance())
+	if err != nil {
+		return 0, err
+	}
+	v, err := an.TrackingError(al.Portfolio, al.Benchmark)
+	if err != nil {
+		return 0, fmt.Errorf("starting portfolio: %w", err)
+	}
+	return te.Annualize(v, m.PeriodsPerYear), nil
 }
 
 // align builds the universe from the benchmark names the model covers; the
@@ -307,7 +333,9 @@ func loadModel(dir, demoReturns, demoAssets string) (*riskmodel.Model, error) {
 	return m, err
 }
 
-func printResult(w io.Writer, cfg config, m *riskmodel.Model, pr *problem, wt, path []float64, before, after float64, check te.BandCheck, factored bool) {
+// printResult prints the rebalance; tes holds the fund's own tracking
+// error, the projected start's and the optimised portfolio's, annualised.
+func printResult(w io.Writer, cfg config, m *riskmodel.Model, pr *problem, wt, path []float64, tes [3]float64, check te.BandCheck, factored bool) {
 	form := "dense"
 	if factored {
 		form = fmt.Sprintf("factor form, K = %d", m.Factor.NumFactors())
@@ -335,7 +363,8 @@ func printResult(w io.Writer, cfg config, m *riskmodel.Model, pr *problem, wt, p
 		fmt.Fprintf(w, ", only the %d largest benchmark names", cfg.names)
 	}
 	fmt.Fprintln(w)
-	fmt.Fprintf(w, "  tracking error  %.4f %% → %.4f %% a year in %d projected-gradient steps\n", 100*before, 100*after, len(path)-1)
+	fmt.Fprintf(w, "  tracking error  fund %.4f %% a year as held; %.4f %% once projected onto the constraints\n", 100*tes[0], 100*tes[1])
+	fmt.Fprintf(w, "  optimised       %.4f %% a year in %d projected-gradient steps\n", 100*tes[2], len(path)-1)
 	fmt.Fprintf(w, "  holdings        %d names, %d at the maximum weight\n", held, capped)
 	upper := "no ceiling"
 	if cfg.band.Upper > 0 {
@@ -346,7 +375,12 @@ func printResult(w io.Writer, cfg config, m *riskmodel.Model, pr *problem, wt, p
 		fmt.Fprintf(w, " by %.4f %%", 100*check.Breach)
 	}
 	fmt.Fprintln(w)
-	fmt.Fprintf(w, "  exported        %s (sqrt_factor.csv, sqrt_specific.csv, problem.csv)\n", cfg.export)
+	files := "sqrt_factor.csv, sqrt_specific.csv, problem.csv"
+	if !factored {
+		files = "cholesky_factor.csv, problem.csv"
+	}
+	fmt.Fprintf(w, "  exported        %s (%s)\n", cfg.export, files)
+	fmt.Fprintf(w, "Caution: %s\n", riskmodel.Caution)
 }
 
 // findRoot returns the nearest directory at or above dir holding go.mod.

@@ -47,12 +47,28 @@ func num(t *testing.T, s string) float64 {
 // optimized weights satisfy the constraints.
 func checkExport(t *testing.T, dir string, m *riskmodel.Model, maxWeight float64) (before, after float64) {
 	t.Helper()
-	g := readCSV(t, filepath.Join(dir, "sqrt_factor.csv"))
-	sp := readCSV(t, filepath.Join(dir, "sqrt_specific.csv"))
+	var g, sp [][]string
+	if m.Factor != nil {
+		g = readCSV(t, filepath.Join(dir, "sqrt_factor.csv"))
+		sp = readCSV(t, filepath.Join(dir, "sqrt_specific.csv"))
+		require.Equal(t, "factor", g[0][0])
+	} else {
+		// A dense model: the Cholesky factor Lᵀ, upper triangular, no specific file.
+		g = readCSV(t, filepath.Join(dir, "cholesky_factor.csv"))
+		require.Equal(t, "row", g[0][0])
+		require.NoFileExists(t, filepath.Join(dir, "sqrt_specific.csv"))
+		for i, row := range g[1:] {
+			for j := 0; j < i; j++ {
+				require.Equal(t, "0", row[j+1], "Lᵀ is upper triangular")
+			}
+		}
+	}
 	pr := readCSV(t, filepath.Join(dir, "problem.csv"))
 	assets := g[0][1:]
 	n := len(assets)
-	require.Len(t, sp, n+1)
+	if sp != nil {
+		require.Len(t, sp, n+1)
+	}
 	require.Len(t, pr, n+1)
 	require.Equal(t, []string{"asset", "benchmark", "start", "optimized", "max_weight"}, pr[0])
 	pos := map[string]int{}
@@ -64,7 +80,9 @@ func checkExport(t *testing.T, dir string, m *riskmodel.Model, maxWeight float64
 	var sum float64
 	for j := 0; j < n; j++ {
 		require.Equal(t, assets[j], pr[j+1][0])
-		require.Equal(t, assets[j], sp[j+1][0])
+		if sp != nil {
+			require.Equal(t, assets[j], sp[j+1][0])
+		}
 		b, w0, w, c := num(t, pr[j+1][1]), num(t, pr[j+1][2]), num(t, pr[j+1][3]), num(t, pr[j+1][4])
 		require.GreaterOrEqual(t, w, 0.0)
 		require.LessOrEqual(t, w, c)
@@ -82,7 +100,7 @@ func checkExport(t *testing.T, dir string, m *riskmodel.Model, maxWeight float64
 			}
 			q += gx * gx
 		}
-		for j := 0; j < n; j++ {
+		for j := 0; j < n && sp != nil; j++ {
 			s := num(t, sp[j+1][1])
 			q += s * s * x[j] * x[j]
 		}
@@ -117,7 +135,22 @@ func TestDemoWithoutArguments(t *testing.T) {
 	require.NoError(t, err)
 	before, after := checkExport(t, dir, m, 0.03)
 	require.Less(t, after, before, "the rebalance lowers the tracking error")
-	require.Contains(t, out, strconv.FormatFloat(100*after, 'f', 4, 64)+" % a year")
+	require.Contains(t, out, "optimised       "+strconv.FormatFloat(100*after, 'f', 4, 64)+" % a year")
+	require.Contains(t, out, "once projected onto the constraints")
+	// The fund's own tracking error is the attribution report's.
+	root2 := filepath.Join(root, "testdata", "demo")
+	assets, err := riskmodel.ReadAssets(filepath.Join(root2, "assets.csv"))
+	require.NoError(t, err)
+	fund, err := riskmodel.ReadHoldings(filepath.Join(root2, "fund.csv"))
+	require.NoError(t, err)
+	bench, err := riskmodel.ReadHoldings(filepath.Join(root2, "benchmark.csv"))
+	require.NoError(t, err)
+	a, err := riskmodel.Attribute(m, fund, bench, assets, nil)
+	require.NoError(t, err)
+	require.Contains(t, out, "tracking error  fund "+strconv.FormatFloat(100*a.TrackingError, 'f', 4, 64)+" % a year as held")
+	// The default band is one the example meets.
+	require.Contains(t, out, "band            0.000 % to 2.000 %: within")
+	require.Contains(t, out, "Caution: "+riskmodel.Caution)
 }
 
 func mustGetwd(t *testing.T) string {
@@ -168,6 +201,7 @@ func TestBadInput(t *testing.T) {
 		{"max weight", []string{"-max-weight", "0"}, "-max-weight must be in (0, 1]"},
 		{"band", []string{"-band", "x"}, `-band "x"`},
 		{"band order", []string{"-band", "0.02,0.01"}, "invalid tracking-error band"},
+		{"band percent", []string{"-band", "1,3"}, "look like percent"},
 		{"infeasible", []string{"-names", "10", "-max-weight", "0.05"}, "10 names at a maximum weight of 0.05 cannot hold"},
 		{"short benchmark", []string{"-benchmark", bad}, "benchmark weight of QV0001 is negative"},
 		{"model", []string{"-model", t.TempDir()}, "-model:"},

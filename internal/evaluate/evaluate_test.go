@@ -213,10 +213,12 @@ func TestEvaluateDeterministicAndOutputs(t *testing.T) {
 	var js struct {
 		Estimators     []map[string]any `json:"estimators"`
 		Recommendation string           `json:"recommendation"`
+		Caution        string           `json:"caution"`
 	}
 	require.NoError(t, json.Unmarshal(a.Bytes(), &js))
 	require.Len(t, js.Estimators, 4)
 	require.Equal(t, ev.Recommendation, js.Recommendation)
+	require.Equal(t, riskmodel.Caution, js.Caution)
 
 	var c bytes.Buffer
 	require.NoError(t, ev.WriteCSV(&c))
@@ -232,6 +234,7 @@ func TestEvaluateDeterministicAndOutputs(t *testing.T) {
 		require.Contains(t, txt.String(), s.Name)
 	}
 	require.Contains(t, txt.String(), ev.Recommendation)
+	require.Contains(t, txt.String(), "Caution: "+riskmodel.Caution)
 
 	var svg bytes.Buffer
 	require.NoError(t, ev.WriteSVG(&svg))

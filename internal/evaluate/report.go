@@ -8,6 +8,8 @@ import (
 	"math"
 	"strconv"
 	"strings"
+
+	"github.com/riskmodel/riskmodel"
 )
 
 // The ranking table of an Result as text, CSV and JSON. All three carry
@@ -92,6 +94,7 @@ type evaluationJSON struct {
 	Metrics        []string         `json:"ranked_metrics"`
 	Recommendation string           `json:"recommendation"`
 	Estimators     []map[string]any `json:"estimators"`
+	Caution        string           `json:"caution"`
 }
 
 // WriteJSON writes the evaluation's settings, recommendation and one object
@@ -100,7 +103,7 @@ type evaluationJSON struct {
 func (ev *Result) WriteJSON(w io.Writer) error {
 	out := evaluationJSON{
 		Step: ev.Step, Window: ev.Window, RebalanceDates: len(ev.Periods), TestDates: ev.TestDates,
-		Metrics: ev.Metrics, Recommendation: ev.Recommendation,
+		Metrics: ev.Metrics, Recommendation: ev.Recommendation, Caution: riskmodel.Caution,
 	}
 	if len(ev.Periods) > 0 {
 		out.First = ev.Periods[0].AsOf.String()
@@ -198,6 +201,7 @@ func (ev *Result) WriteText(w io.Writer) error {
 		}
 	}
 	b.WriteString(ev.Recommendation + "\n")
+	b.WriteString("Caution: " + riskmodel.Caution + "\n")
 	_, err := io.WriteString(w, b.String())
 	return err
 }
