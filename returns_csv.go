@@ -83,15 +83,15 @@ func readLongCSV(c *csvFile, periodsPerYear float64) (*Panel, error) {
 	return b.Panel(), nil
 }
 
-// duplicateRow returns the error of row k (counted from 0) of a long file,
-// err about the cell of asset, at its line, which it reads the file again
-// to find.
+// duplicateRow returns err, about the cell of asset in row k (counted from
+// 0) of a long file, at the row's line, which it reads the file again to
+// find (no line if the file has changed meanwhile).
 func duplicateRow(c *csvFile, k int, err error, asset string) error {
 	line := 0
 	if again, oerr := openCSV(c.path); oerr == nil {
 		defer again.Close()
 		if s, serr := newLongScan(again, k); serr == nil && s.scan() == nil {
-			line = s.stopLine
+			line = max(s.stopLine, 0)
 		}
 	}
 	return c.at(line, c.index("asset"), asset, err)
@@ -104,7 +104,8 @@ type csvRow struct {
 	v           float64
 }
 
-// longBlock is the number of rows in a block of longScan.blocks: 1 MiB.
+// longBlock is the largest number of rows in a block of longScan.blocks:
+// 1 MiB. Blocks are never copied to grow.
 const longBlock = 1 << 16
 
 // longScan reads the rows of a long CSV file after its header. Lines without
@@ -166,20 +167,18 @@ func (s *longScan) scan() error {
 			if k := len(line); k > 0 && line[k-1] == '\r' {
 				line = line[:k-1]
 			}
-			if len(line) > 0 { // encoding/csv skips an empty line
-				if bytes.IndexByte(line, '"') >= 0 || !s.fast(line) {
-					slow = true
-					break
-				}
-				records = true
+			if len(line) > 0 && (bytes.IndexByte(line, '"') >= 0 || !s.fast(line)) {
+				slow = true
+				break
 			}
 			off += i + 1
 			c.end++
 			c.skipped++
-			if len(line) > 0 {
+			if len(line) > 0 { // a record; encoding/csv skips an empty line
+				records = true
 				c.rows++
 				c.line = c.end
-				if s.stop >= 0 && s.kept(c.line) {
+				if s.stop >= 0 && s.reached(c.line) {
 					return nil
 				}
 			}
@@ -208,7 +207,7 @@ func (s *longScan) scan() error {
 		if err := s.record(rec, line); err != nil {
 			return err
 		}
-		if s.stop >= 0 && s.kept(line) {
+		if s.stop >= 0 && s.reached(line) {
 			return nil
 		}
 	}
@@ -316,16 +315,21 @@ func (s *longScan) add(date, asset uint32, v float64) {
 	if s.stop >= 0 {
 		return
 	}
-	if len(s.blocks) == 0 || len(s.blocks[len(s.blocks)-1]) == longBlock {
-		s.blocks = append(s.blocks, make([]csvRow, 0, longBlock))
+	n := len(s.blocks)
+	if n == 0 || len(s.blocks[n-1]) == cap(s.blocks[n-1]) {
+		size := 256 // then doubling up to longBlock, so that a small file takes little
+		if n > 0 {
+			size = min(2*cap(s.blocks[n-1]), longBlock)
+		}
+		s.blocks = append(s.blocks, make([]csvRow, 0, size))
+		n++
 	}
-	last := &s.blocks[len(s.blocks)-1]
-	*last = append(*last, csvRow{date, asset, v})
+	s.blocks[n-1] = append(s.blocks[n-1], csvRow{date, asset, v})
 }
 
-// kept reports, when scan looks for row s.stop, whether the row just read on
-// line was that row.
-func (s *longScan) kept(line int) bool {
+// reached reports, when scan looks for row s.stop, whether the row just read
+// on line was that row.
+func (s *longScan) reached(line int) bool {
 	if s.c.rows-1 == s.stop {
 		s.stopLine = line
 		return true
@@ -335,7 +339,8 @@ func (s *longScan) kept(line int) bool {
 
 // parseReturnBytes parses a return cell as parseReturn does, reporting false
 // for any cell parseReturn refuses. strconv.ParseFloat copies its argument
-// only into an error, so string(b) does not allocate.
+// only into an error, so string(b) does not allocate for a cell of up to 32
+// bytes.
 func parseReturnBytes(b []byte) (float64, bool) {
 	b = bytes.TrimSpace(b)
 	if len(b) == 0 || string(b) == "NA" {
