@@ -41,14 +41,23 @@ func (l *recordLimit) Read(p []byte) (int, error) {
 }
 
 // csvFile is a CSV file opened for reading and positioned after its header.
+//
+// r reads from br itself (csv.NewReader keeps a *bufio.Reader of at least
+// 4 KiB as it is), so a reader may take whole lines from br between records
+// of r, as the long return reader does: it then counts them in skipped and
+// keeps end, line and rows up to date, and lim is reset after each record as
+// next does.
 type csvFile struct {
-	path   string
-	f      *os.File
-	lim    *recordLimit
-	r      *csv.Reader
-	header []string
-	rows   int
-	line   int // last line of the record read last; 1 after the header
+	path    string
+	f       *os.File
+	lim     *recordLimit
+	br      *bufio.Reader
+	r       *csv.Reader
+	header  []string
+	rows    int
+	line    int // last line of the record read last; 1 after the header
+	end     int // last line consumed, by r or from br
+	skipped int // lines taken from br past r, which r's line numbers omit
 }
 
 // openCSV opens path and reads its header. Header names are trimmed of
@@ -60,7 +69,8 @@ func openCSV(path string) (*csvFile, error) {
 		return nil, &FileError{File: path, Err: err}
 	}
 	c := &csvFile{path: path, f: f, lim: &recordLimit{r: f, n: MaxCSVRecord}}
-	c.r = csv.NewReader(bufio.NewReaderSize(c.lim, 1<<16))
+	c.br = bufio.NewReaderSize(c.lim, 1<<16)
+	c.r = csv.NewReader(c.br)
 	c.r.ReuseRecord = true
 	rec, err := c.r.Read()
 	if err == io.EOF {
@@ -73,6 +83,7 @@ func openCSV(path string) (*csvFile, error) {
 	}
 	c.lim.n = MaxCSVRecord
 	c.line, _ = c.r.FieldPos(len(rec) - 1)
+	c.end = recordEnd(c.line, rec)
 	c.header = slices.Clone(rec)
 	seen := make(map[string]bool, len(rec))
 	for k, h := range c.header {
@@ -135,8 +146,17 @@ func (c *csvFile) next() ([]string, int, error) {
 	c.rows++
 	c.lim.n = MaxCSVRecord
 	line, _ := c.r.FieldPos(0)
-	c.line, _ = c.r.FieldPos(len(rec) - 1)
-	return rec, line, nil
+	last, _ := c.r.FieldPos(len(rec) - 1)
+	c.line = last + c.skipped
+	c.end = recordEnd(c.line, rec)
+	return rec, line + c.skipped, nil
+}
+
+// recordEnd returns the last line of a record whose last field starts on
+// line: a record ends with its last field, and a quoted field holds one "\n"
+// for every line break it spans (encoding/csv turns "\r\n" into "\n").
+func recordEnd(line int, rec []string) int {
+	return line + strings.Count(rec[len(rec)-1], "\n")
 }
 
 // wrap turns an error of encoding/csv into a *FileError.
@@ -147,7 +167,7 @@ func (c *csvFile) wrap(err error) error {
 	}
 	var pe *csv.ParseError
 	if errors.As(err, &pe) {
-		return &FileError{File: c.path, Line: pe.Line, Err: fmt.Errorf("%w (at character %d of the line)", pe.Err, pe.Column)}
+		return &FileError{File: c.path, Line: pe.Line + c.skipped, Err: fmt.Errorf("%w (at character %d of the line)", pe.Err, pe.Column)}
 	}
 	return &FileError{File: c.path, Err: err}
 }

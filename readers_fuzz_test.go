@@ -130,6 +130,20 @@ func FuzzReadReturnsCSV(f *testing.F) {
 	})
 }
 
+// FuzzReadLongCSVTwoPass checks the one-pass long CSV reader against the
+// two-pass reference (readReturnsCSVTwoPass): the same panel or the same
+// error for any bytes. The seeds are the edge cases of longCSVCases.
+func FuzzReadLongCSVTwoPass(f *testing.F) {
+	for _, tc := range longCSVCases {
+		if len(tc.data) < 1<<12 {
+			f.Add([]byte(tc.data))
+		}
+	}
+	f.Fuzz(func(t *testing.T, data []byte) {
+		requireSameAsTwoPass(t, writeFuzzFile(t, "r.csv", data))
+	})
+}
+
 func FuzzReadReturnsParquet(f *testing.F) {
 	var b bytes.Buffer
 	if err := WriteReturnsParquet(&b, fuzzPanel()); err != nil {
