@@ -41,9 +41,10 @@ const metaPeriods = "riskmodel.periods_per_year"
 // ErrNotParquet, ErrTruncated, ErrTooSparse or ErrFormat. An invalid
 // opts.PeriodsPerYear is ErrPeriodsPerYear.
 //
-// A long file is read twice, once for its dates and assets and once to fill
-// the panel, so memory is the T×N panel plus one batch of rows. Cost O(rows ·
-// log(T+N)).
+// A long Parquet file is read twice, once for its dates and assets and once
+// to fill the panel, so memory is the T×N panel plus one batch of rows. A
+// long CSV file is read once, keeping 16 bytes a row until the panel is
+// filled. Cost O(rows · log(T+N)).
 func ReadReturns(path string, opts *ReadOptions) (*Panel, error) {
 	var o ReadOptions
 	if opts != nil {
@@ -134,12 +135,6 @@ func (x *longIndex) add(d Date, asset []byte) {
 	if _, ok := x.assets[string(asset)]; !ok {
 		x.assets[string(asset)] = struct{}{}
 	}
-}
-
-func (x *longIndex) addString(d Date, asset string) {
-	x.rows++
-	x.dates[d] = struct{}{}
-	x.assets[asset] = struct{}{}
 }
 
 // cell returns the builder's row and column of (d, asset), looked up without

@@ -421,3 +421,9 @@ func TestLongCSVFastPathAllocations(t *testing.T) {
 	requireSamePanel(t, p, got)
 	require.Less(t, allocs, float64(nt*n)/20, "%v allocations for %d rows", allocs, nt*n)
 }
+
+func (x *longIndex) addString(d Date, asset string) {
+	x.rows++
+	x.dates[d] = struct{}{}
+	x.assets[asset] = struct{}{}
+}
