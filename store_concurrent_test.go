@@ -87,8 +87,7 @@ func concurrentModel(round, job int) *Model {
 // bit, and that no staging folder is left. Before the store's lock, jobs
 // deleted each other's staging folders: in 102 overlapping runs a job twice
 // reported a folder that was empty. 100 rounds (about 40 s on a loaded
-// 2-core machine);
-// -short runs 8.
+// 2-core machine); -short runs 8.
 func TestConcurrentPublish(t *testing.T) {
 	rounds := 100
 	if testing.Short() {
