@@ -195,14 +195,29 @@ func (s Store) switchCurrent(name string) error {
 	return syncDir(s.Dir)
 }
 
-// freeName returns base, or base.2, base.3, … whichever is not yet taken.
+// freeName returns base when no folder of that date exists, else base.N
+// with N one more than the largest suffix of the date's folders, so that a
+// rerun always sorts after the folders it follows, even when retention has
+// removed the first of them.
 func (s Store) freeName(base string) string {
-	name := base
-	for i := 2; ; i++ {
+	d, _ := ParseDate(base)
+	last := 0
+	if entries, err := os.ReadDir(s.Dir); err == nil {
+		for _, e := range entries {
+			if fd, n, ok := parseFolder(e.Name()); ok && fd == d {
+				last = max(last, n)
+			}
+		}
+	}
+	for n := last + 1; ; n++ {
+		name := base
+		if n > 1 {
+			name = base + "." + strconv.Itoa(n)
+		}
+		// Anything else of that name (a file, say) is not overwritten.
 		if _, err := os.Lstat(filepath.Join(s.Dir, name)); errors.Is(err, os.ErrNotExist) {
 			return name
 		}
-		name = base + "." + strconv.Itoa(i)
 	}
 }
 

@@ -84,6 +84,13 @@ func TestPublishRetention(t *testing.T) {
 	names, err := s.datedFolders()
 	require.NoError(t, err)
 	require.Equal(t, []string{"2026-01-08.2", "2026-01-08.3"}, names)
+	// The next rerun is .4, not the freed 2026-01-08, which would sort
+	// before the folders it follows.
+	p, err = s.PublishWith(dated(t, base, DateOf(2026, 1, 8)), &PublishOptions{Keep: 2})
+	require.NoError(t, err)
+	require.Equal(t, filepath.Join(s.Dir, "2026-01-08.4"), p.Dir)
+	names, _ = s.datedFolders()
+	require.Equal(t, []string{"2026-01-08.3", "2026-01-08.4"}, names)
 
 	// A backfill with Keep 1: the current folder and the one before it stay,
 	// and so does the backfill just published, though it is the oldest.
@@ -92,12 +99,12 @@ func TestPublishRetention(t *testing.T) {
 	require.False(t, p.Current)
 	require.Empty(t, p.Removed)
 	names, _ = s.datedFolders()
-	require.Equal(t, []string{"2025-12-31", "2026-01-08.2", "2026-01-08.3"}, names)
+	require.Equal(t, []string{"2025-12-31", "2026-01-08.3", "2026-01-08.4"}, names)
 	// The next nightly with Keep 1 removes what is no longer protected.
 	p, err = s.PublishWith(dated(t, base, DateOf(2026, 1, 9)), &PublishOptions{Keep: 1})
 	require.NoError(t, err)
 	names, _ = s.datedFolders()
-	require.Equal(t, []string{"2026-01-08.3", "2026-01-09"}, names)
+	require.Equal(t, []string{"2026-01-08.4", "2026-01-09"}, names)
 	require.Len(t, p.Removed, 2)
 	_, err = s.LoadCurrent()
 	require.NoError(t, err)
