@@ -319,7 +319,8 @@ func TestHelp(t *testing.T) {
 	code, _, errs := runJob("-h")
 	require.Equal(t, 0, code)
 	for _, f := range []string{"Usage: nightly", "-returns", "-assets", "-asof", "-window", "-min-obs", "-method", "-out", "-dense",
-		"-log-format", "-vol-half-life", "-factors", "Exit status"} {
+		"-log-format", "-vol-half-life", "-factors", "Exit status",
+		"-periods-per-year", "-accept-implausible", "-min-dates", "-set-current", "-keep", "-lock-timeout", "backfill"} {
 		require.Contains(t, errs, f)
 	}
 	for _, m := range riskmodel.Methods {
