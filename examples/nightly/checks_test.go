@@ -153,7 +153,7 @@ func TestWeeklyDatesInferred(t *testing.T) {
 	m, err := riskmodel.Store{Dir: store}.LoadCurrent()
 	require.NoError(t, err)
 	require.Equal(t, 52.0, m.PeriodsPerYear)
-	require.Equal(t, "52 inferred from the dates: weekly (median gap 7 days) (the file said 252)", m.Settings["periods_per_year"])
+	require.Equal(t, "52 inferred from the dates: weekly (median gap 7 days) (the file said 252)", m.Settings["periods_per_year_source"])
 
 	code, _, errs = runJob(append(weekly, "-out", t.TempDir(), "-periods-per-year", "252")...)
 	require.Equal(t, 2, code, errs)
@@ -170,7 +170,7 @@ func TestWeeklyDatesInferred(t *testing.T) {
 	m, err = riskmodel.Store{Dir: store}.LoadCurrent()
 	require.NoError(t, err)
 	require.Equal(t, 252.0, m.PeriodsPerYear)
-	require.Contains(t, m.Settings["periods_per_year"], "252 from the file or its format's default; dates daily")
+	require.Contains(t, m.Settings["periods_per_year_source"], "252 from the file or its format's default; dates daily")
 }
 
 // TestDatesRefused: too few dates, an -asof past the data, and a stray row
@@ -416,7 +416,7 @@ func TestManifestRecordsTheRun(t *testing.T) {
 	require.Equal(t, "simple decimal returns per period (0.01 = 1 %)", man["returns"])
 	require.Equal(t, 252.0, man["periods_per_year"])
 	settings := man["settings"].(map[string]any)
-	require.Contains(t, settings["periods_per_year"], "dates daily (median gap 1 days)")
+	require.Contains(t, settings["periods_per_year_source"], "dates daily (median gap 1 days)")
 	require.Regexp(t, `^sector: \d+ groups$`, settings["specific_groups"])
 	v := man["validation"].(map[string]any)
 	for _, k := range []string{"finite", "positive_definite", "condition", "min_eigenvalue", "bias", "bias_band", "benchmark_weight_covered", "problems"} {

@@ -109,7 +109,7 @@ func job(cfg config, stdout io.Writer, log *slog.Logger, bar *progress) error {
 	if err != nil {
 		return err
 	}
-	m.Settings["periods_per_year"] = per.record
+	m.Settings["periods_per_year_source"] = per.record
 	bar.step("validate")
 	if err := validate(cfg, in, m, stdout, log); err != nil {
 		return err

@@ -9,7 +9,6 @@ import (
 	"os"
 	"path/filepath"
 	"strconv"
-	"syscall"
 )
 
 // Dir returns the default folder for name ("store", "optimizer"):
@@ -51,8 +50,8 @@ func private(dir string) error {
 	case fi.Mode().Perm()&0o022 != 0:
 		return fmt.Errorf("default folder %s can be written by other users (mode %v); give the folder explicitly", dir, fi.Mode().Perm())
 	}
-	if st, ok := fi.Sys().(*syscall.Stat_t); ok && int(st.Uid) != os.Getuid() {
-		return fmt.Errorf("default folder %s belongs to user %d, not %d; give the folder explicitly", dir, st.Uid, os.Getuid())
+	if uid, ok := owner(fi); ok && uid != os.Getuid() {
+		return fmt.Errorf("default folder %s belongs to user %d, not %d; give the folder explicitly", dir, uid, os.Getuid())
 	}
 	return nil
 }
