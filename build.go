@@ -80,6 +80,9 @@ type BuildOptions struct {
 	// Groups maps an asset to its group (sector, size bucket) for the
 	// shrinkage of the factor model's specific variances; nil: one group.
 	Groups map[string]string
+	// GroupsName says what Groups are ("sector"), for the model's record
+	// (Settings["specific_groups"]); default "groups".
+	GroupsName string
 	// Previous, if set, is the previous model whose factors the new ones are
 	// rotated onto, so that factors keep their order and sign.
 	Previous *Model
@@ -181,6 +184,8 @@ func Build(p *Panel, asof Date, opts *BuildOptions) (*Model, *BuildReport, error
 		Method:         o.Method,
 		Settings:       o.settings(),
 	}
+	recordWindow(m, rep, o.Window)
+	recordGroups(m, o)
 	switch o.Method {
 	case MethodFactor:
 		err = buildFactor(m, win, o, rep)

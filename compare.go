@@ -113,11 +113,12 @@ func Compare(prev, next *Model, opts *CompareOptions) (*Comparison, error) {
 	c.Added = len(next.Assets) - c.Common
 	c.Removed = len(prev.Assets) - c.Common
 
-	riskPrev, riskNext := assetVols(prev), assetVols(next)
-	if prev.Factor != nil && next.Factor != nil {
+	specific := prev.Factor != nil && next.Factor != nil
+	if specific {
 		c.RiskKind = "specific"
 		c.Angles = principalAngles(prev.Factor.LoadingsTo(nil), next.Factor.LoadingsTo(nil), ip, in)
 	}
+	riskPrev, riskNext := assetVols(prev, specific), assetVols(next, specific)
 	for k := range in {
 		c.Changes = append(c.Changes, RiskChange{
 			Asset:    next.Assets[in[k]],
@@ -143,16 +144,18 @@ func Compare(prev, next *Model, opts *CompareOptions) (*Comparison, error) {
 	return c, nil
 }
 
-// assetVols returns each asset's specific volatility (factor form) or total
-// volatility (dense), per period.
-func assetVols(m *Model) []float64 {
+// assetVols returns each asset's specific volatility √d_i (a factor model,
+// when specific is true) or total volatility √Σ_ii, per period. A comparison
+// across forms (factor against dense) compares total against total.
+func assetVols(m *Model, specific bool) []float64 {
 	var v []float64
-	if m.Factor != nil {
+	if specific {
 		v = m.Factor.SpecificVariancesTo(nil)
 	} else {
+		c := m.Covariance()
 		v = make([]float64, len(m.Assets))
 		for i := range v {
-			v[i] = m.Dense.At(i, i)
+			v[i] = c.At(i, i)
 		}
 	}
 	for i, x := range v {

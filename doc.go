@@ -18,7 +18,9 @@
 //     a report of what it did to the data; Validate: finite, positive
 //     definite, condition number, coverage and a bias statistic.
 //   - SaveModel, LoadModel and Store.Publish: the model folder (Parquet plus a
-//     manifest with checksums) and the atomic switch of the current model.
+//     manifest with checksums, itself covered by model.sha256) and the atomic
+//     switch of the current model under the store's lock, with backfills and
+//     retention (PublishOptions); InferFrequency for the periods per year.
 //   - Compare (night to night) and Attribute (the analyst's decomposition of
 //     ex-ante tracking error by group, factor and single name, with hedges).
 //

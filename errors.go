@@ -82,3 +82,15 @@ var (
 	// ErrRecordTooLarge reports a CSV record longer than MaxCSVRecord bytes.
 	ErrRecordTooLarge = errors.New("CSV record is longer than the limit of MaxCSVRecord bytes")
 )
+
+// Errors of the store's lock and of the checks of a return history's units
+// and frequency.
+var (
+	// ErrLocked reports a store whose lock another job held for longer than
+	// the wait allowed.
+	ErrLocked = errors.New("store is locked by another job")
+
+	// ErrFrequency reports dates whose spacing matches no regular frequency,
+	// or a periods-per-year value that contradicts the spacing.
+	ErrFrequency = errors.New("return frequency does not match the dates")
+)

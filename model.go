@@ -2,6 +2,7 @@ package riskmodel
 
 import (
 	"fmt"
+	"maps"
 	"math"
 	"slices"
 
@@ -27,6 +28,9 @@ type Model struct {
 	Method         string            // the estimator's name, e.g. "factor" or "ledoit-wolf"
 	Settings       map[string]string // the estimator's settings, in words, for the record
 	Notes          []string          // repairs and other facts a reader must know
+	// Validation records, in words, the checks the model passed before it
+	// was published (for example ValidationRecord's result); nil: none.
+	Validation map[string]string
 
 	Factor *factor.Model // set for a factor-form model
 	Dense  *mat.SymDense // set for a dense model
@@ -76,13 +80,11 @@ func (m *Model) check() error {
 func (m *Model) equal(o *Model) bool {
 	if m.AsOf != o.AsOf || m.Method != o.Method || m.PeriodsPerYear != o.PeriodsPerYear ||
 		!slices.Equal(m.Assets, o.Assets) || !slices.Equal(m.Notes, o.Notes) ||
-		len(m.Settings) != len(o.Settings) || (m.Factor == nil) != (o.Factor == nil) {
+		(m.Factor == nil) != (o.Factor == nil) {
 		return false
 	}
-	for k, v := range m.Settings {
-		if o.Settings[k] != v {
-			return false
-		}
+	if !maps.Equal(m.Settings, o.Settings) || !maps.Equal(m.Validation, o.Validation) {
+		return false
 	}
 	if m.Factor != nil {
 		a, b := m.Factor, o.Factor

@@ -31,8 +31,17 @@ const (
 	factorCovFile  = "factor_covariance.parquet"
 	denseCovFile   = "covariance.parquet"
 	factorInfoFile = "factor_info.gob"
+	digestFile     = "model.sha256" // the SHA-256 of model.json, in sha256sum's format
 
-	storeFormat = "riskmodel-folder/1"
+	// storeFormat 2 added model.sha256, the units and the validation record.
+	storeFormat = "riskmodel-folder/2"
+)
+
+// The units every saved model is in, recorded in model.json so that a reader
+// need not know the library's conventions.
+const (
+	unitsReturns    = "simple decimal returns per period (0.01 = 1 %)"
+	unitsCovariance = "per period; multiply by periods_per_year to annualise"
 )
 
 // manifest is the content of model.json.
@@ -43,12 +52,17 @@ type manifest struct {
 	Method         string            `json:"method"`
 	Kind           string            `json:"kind"` // "factor" or "dense"
 	PeriodsPerYear float64           `json:"periods_per_year"`
+	Returns        string            `json:"returns"`
+	CovUnits       string            `json:"covariance_units"`
 	Assets         int               `json:"assets"`
 	Factors        int               `json:"factors"`
 	FactorReason   string            `json:"factor_reason,omitempty"`
 	FactorNames    []string          `json:"factor_names,omitempty"`
 	Settings       map[string]string `json:"settings,omitempty"`
 	Notes          []string          `json:"notes,omitempty"`
+	// Validation records the checks the model passed before it was
+	// published (Model.Validation).
+	Validation map[string]string `json:"validation,omitempty"`
 	// Files maps each data file to the SHA-256 of its bytes, so a reader
 	// detects a truncated or altered folder.
 	Files map[string]string `json:"files"`
@@ -101,9 +115,12 @@ func SaveModel(dir string, m *Model) error {
 		AsOf:           m.AsOf.String(),
 		Method:         m.Method,
 		PeriodsPerYear: m.PeriodsPerYear,
+		Returns:        unitsReturns,
+		CovUnits:       unitsCovariance,
 		Assets:         len(m.Assets),
 		Settings:       m.Settings,
 		Notes:          m.Notes,
+		Validation:     m.Validation,
 		Files:          map[string]string{},
 	}
 	put := func(name string, write func(io.Writer) error) error {
@@ -140,7 +157,11 @@ func SaveModel(dir string, m *Model) error {
 	if err != nil {
 		return fmt.Errorf("riskmodel: save model: %w", err)
 	}
-	if err := writeSynced(filepath.Join(dir, manifestFile), append(js, '\n')); err != nil {
+	js = append(js, '\n')
+	if err := writeSynced(filepath.Join(dir, manifestFile), js); err != nil {
+		return err
+	}
+	if err := writeSynced(filepath.Join(dir, digestFile), []byte(digestLine(js))); err != nil {
 		return err
 	}
 	return syncDir(dir)
@@ -248,7 +269,12 @@ func putParquet[T any](name string, rows []T, put putFunc) error {
 // a store root (a folder with a "current" link). It verifies every file's
 // checksum and the consistency of the files, and returns an error wrapping
 // ErrInvalidModel for a folder that fails those checks.
-func LoadModel(dir string) (*Model, error) {
+func LoadModel(dir string) (m *Model, err error) {
+	defer func() {
+		if r := recover(); r != nil {
+			m, err = nil, panicError(dir, r)
+		}
+	}()
 	if _, err := os.Stat(filepath.Join(dir, manifestFile)); errors.Is(err, os.ErrNotExist) {
 		if cur, cerr := (Store{Dir: dir}).Current(); cerr == nil {
 			dir = cur
@@ -257,6 +283,9 @@ func LoadModel(dir string) (*Model, error) {
 	js, err := os.ReadFile(filepath.Join(dir, manifestFile))
 	if err != nil {
 		return nil, fmt.Errorf("riskmodel: load model: %w", err)
+	}
+	if err := checkDigest(dir, js); err != nil {
+		return nil, err
 	}
 	var man manifest
 	if err := json.Unmarshal(js, &man); err != nil {
@@ -294,12 +323,13 @@ func LoadModel(dir string) (*Model, error) {
 	if len(arows) != man.Assets {
 		return nil, bad("%s has %d assets, %s says %d", assetsFile, len(arows), manifestFile, man.Assets)
 	}
-	m := &Model{
+	m = &Model{
 		AsOf:           asof,
 		Method:         man.Method,
 		PeriodsPerYear: man.PeriodsPerYear,
 		Settings:       man.Settings,
 		Notes:          man.Notes,
+		Validation:     man.Validation,
 		Assets:         make([]string, len(arows)),
 	}
 	for i, r := range arows {
@@ -324,8 +354,11 @@ func LoadModel(dir string) (*Model, error) {
 
 func loadFactor(man manifest, arows []assetRow, get func(string) ([]byte, error), bad func(string, ...any) error) (*factor.Model, error) {
 	n, k := len(arows), man.Factors
-	if len(man.FactorNames) != k {
+	if k < 0 || len(man.FactorNames) != k {
 		return nil, bad("%d factor names for %d factors", len(man.FactorNames), k)
+	}
+	if err := checkNames(man.FactorNames, bad); err != nil {
+		return nil, err
 	}
 	d := make([]float64, n)
 	row := make(map[string]int, n)
@@ -352,25 +385,37 @@ func loadFactor(man manifest, arows []assetRow, get func(string) ([]byte, error)
 	var fc *mat.SymDense
 	if k > 0 {
 		b = mat.NewDense(n, k, nil)
+		seen := make([]bool, n*k)
 		for _, r := range lrows {
 			i, ok1 := row[r.Asset]
 			j, ok2 := col[r.Factor]
 			if !ok1 || !ok2 {
 				return nil, bad("loading of unknown asset %q or factor %q", r.Asset, r.Factor)
 			}
+			if seen[i*k+j] {
+				return nil, bad("%s: loading of %q on %q appears twice", loadingsFile, r.Asset, r.Factor)
+			}
+			seen[i*k+j] = true
 			b.Set(i, j, r.Loading)
 		}
-		fc = mat.NewSymDense(k, nil)
+		full := make([]float64, k*k)
+		seen = make([]bool, k*k)
 		for _, r := range frows {
 			i, ok1 := col[r.FactorI]
 			j, ok2 := col[r.FactorJ]
 			if !ok1 || !ok2 {
 				return nil, bad("factor covariance of unknown factor %q or %q", r.FactorI, r.FactorJ)
 			}
-			if i <= j {
-				fc.SetSym(i, j, r.Covariance)
+			if seen[i*k+j] {
+				return nil, bad("%s: element (%q, %q) appears twice", factorCovFile, r.FactorI, r.FactorJ)
 			}
+			seen[i*k+j] = true
+			full[i*k+j] = r.Covariance
 		}
+		if err := checkSymmetric(full, k, factorCovFile, bad); err != nil {
+			return nil, err
+		}
+		fc = mat.NewSymDense(k, full)
 	}
 	raw, err := get(factorInfoFile)
 	if err != nil {
@@ -379,6 +424,13 @@ func loadFactor(man manifest, arows []assetRow, get func(string) ([]byte, error)
 	var info factor.Info
 	if err := gob.NewDecoder(bytes.NewReader(raw)).Decode(&info); err != nil {
 		return nil, bad("%s: %v", factorInfoFile, err)
+	}
+	assets := make([]string, n)
+	for i, r := range arows {
+		assets[i] = r.Asset
+	}
+	if err := checkInfo(&info, assets, man.FactorNames, bad); err != nil {
+		return nil, err
 	}
 	f, err := factor.NewModel(b, fc, d, info)
 	if err != nil {
@@ -393,16 +445,19 @@ func loadFactor(man manifest, arows []assetRow, get func(string) ([]byte, error)
 func loadDense(n int, get func(string) ([]byte, error), bad func(string, ...any) error) (*mat.SymDense, error) {
 	s := mat.NewSymDense(n, nil)
 	want := n * (n + 1) / 2
+	seen := make([]uint64, (want+63)/64) // a bit per element of the upper triangle
 	count := 0
 	err := eachParquetRow(denseCovFile, get, func(r denseCovRow) error {
 		i, j := int(r.Row), int(r.Col)
 		if i < 0 || j < i || j >= n {
 			return bad("%s: element (%d, %d) outside the upper triangle of %d assets", denseCovFile, i, j, n)
 		}
-		count++
-		if count > want {
-			return bad("%s has more than the %d elements of %d assets", denseCovFile, want, n)
+		at := i*n - i*(i-1)/2 + j - i
+		if seen[at/64]&(1<<(at%64)) != 0 {
+			return bad("%s: element (%d, %d) appears twice", denseCovFile, i, j)
 		}
+		seen[at/64] |= 1 << (at % 64)
+		count++
 		s.SetSym(i, j, r.Covariance)
 		return nil
 	})

@@ -14,9 +14,11 @@ import (
 )
 
 // FuzzLoadModel keeps a saved model's data files (their checksums guard
-// them) and fuzzes its model.json: LoadModel must return a model with a
-// finite, symmetric covariance of the right size, or an error wrapping
-// ErrInvalidModel (or the file system's error), and never panic.
+// them) and fuzzes its model.json, with a model.sha256 that matches it so
+// that the fuzzed manifest reaches the consistency checks: LoadModel must
+// return a model with a finite, symmetric covariance of the right size, or
+// an error wrapping ErrInvalidModel (or the file system's error), and never
+// panic.
 func FuzzLoadModel(f *testing.F) {
 	src := f.TempDir()
 	models := map[string]*Model{}
@@ -41,7 +43,7 @@ func FuzzLoadModel(f *testing.F) {
 		}
 		f.Add(kind == "factor", js)
 	}
-	f.Add(true, []byte(`{"format":"riskmodel-folder/1","kind":"factor","assets":3,"factors":99999999999}`))
+	f.Add(true, []byte(`{"format":"riskmodel-folder/2","kind":"factor","assets":3,"factors":99999999999}`))
 	f.Fuzz(func(t *testing.T, isFactor bool, manifestJSON []byte) {
 		kind := "dense"
 		if isFactor {
@@ -57,8 +59,11 @@ func FuzzLoadModel(f *testing.F) {
 			if err != nil {
 				t.Fatal(err)
 			}
-			if e.Name() == manifestFile {
+			switch e.Name() {
+			case manifestFile:
 				b = manifestJSON
+			case digestFile:
+				b = []byte(digestLine(manifestJSON))
 			}
 			if err := os.WriteFile(filepath.Join(dir, e.Name()), b, 0o644); err != nil {
 				t.Fatal(err)

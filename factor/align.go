@@ -8,15 +8,15 @@ import (
 	"gonum.org/v1/gonum/mat"
 )
 
-// align rotates the loadings b (N×K, orthonormal) and factor returns ret
-// (T×K) by the orthogonal Procrustes rotation onto the previous model's
+// align rotates the loadings b (N×K, orthonormal) and the factor covariance
+// f (K×K) by the orthogonal Procrustes rotation onto the previous model's
 // loadings over the common assets, and reports the principal angles.
 //
 // With m = min(K, K_prev), M = B_cᵀ·B_prev,c[:, :m] = P·Σ·Qᵀ (full SVD), the
 // rotation R = P·diag(Qᵀ, I_{K−m}) maximizes tr(R[:, :m]ᵀ·M), that is it
 // minimizes ‖B_c·R[:, :m] − B_prev,c[:, :m]‖_F, and is orthogonal, so B·R
-// stays orthonormal and Σ is unchanged.
-func align(b, ret *mat.Dense, prev *Model, idx []int) (*mat.Dense, *mat.Dense, *Alignment, error) {
+// stays orthonormal and (B·R)·(Rᵀ·F·R)·(B·R)ᵀ = B·F·Bᵀ.
+func align(b *mat.Dense, f *mat.SymDense, prev *Model, idx []int) (*mat.Dense, *mat.SymDense, *Alignment, error) {
 	n, k := b.Dims()
 	if idx == nil && prev.n != n {
 		return nil, nil, nil, fmt.Errorf("%w: %d assets now, %d before, and no PreviousIndex", ErrPrevious, n, prev.n)
@@ -62,12 +62,20 @@ func align(b, ret *mat.Dense, prev *Model, idx []int) (*mat.Dense, *mat.Dense, *
 	if m < k {
 		rot.Slice(0, k, m, k).(*mat.Dense).Copy(p.Slice(0, k, m, k))
 	}
-	var nb, nr mat.Dense
+	var nb, fr, rfr mat.Dense
 	nb.Mul(b, rot)
-	nr.Mul(ret, rot)
+	fr.Mul(f, rot)
+	rfr.Mul(rot.T(), &fr)
+	// Rᵀ·F·R is symmetric in exact arithmetic; keep its upper triangle.
+	nf := mat.NewSymDense(k, nil)
+	for i := 0; i < k; i++ {
+		for j := i; j < k; j++ {
+			nf.SetSym(i, j, rfr.At(i, j))
+		}
+	}
 
 	angles := principalAngles(bc, pc)
-	return &nb, &nr, &Alignment{Common: c, Angles: angles, Rotation: slices.Clone(rot.RawMatrix().Data)}, nil
+	return &nb, nf, &Alignment{Common: c, Angles: angles, Rotation: slices.Clone(rot.RawMatrix().Data)}, nil
 }
 
 // principalAngles returns the principal angles between the column spaces of

@@ -61,10 +61,12 @@ import (
 // minimizes ‖B·R − B_prev‖_F over the common assets (orthogonal Procrustes,
 // Schönemann 1966), so factors keep their order and sign night to night;
 // Info.Alignment holds R and the principal angles between the two loading
-// spaces (Björck & Golub 1973). The rotation leaves B·F·Bᵀ unchanged when
-// the factor covariance's volatility and correlation half-lives are equal;
-// with different ones D·C·D is not rotation-equivariant and Σ changes
-// slightly (the factor volatilities are measured along the rotated axes).
+// spaces (Björck & Golub 1973). The rotation is applied after F and D are
+// estimated, as B ← B·R and F ← Rᵀ·F·R, which leaves B·F·Bᵀ unchanged
+// whatever the half-lives: D is bit-identical with or without Previous and
+// B·F·Bᵀ equal up to the rounding of the two K×K products. (Estimating F on
+// rotated factor returns would not be: with different volatility and
+// correlation half-lives D·C·D is not rotation-equivariant.)
 //
 // Fit panics with mat.ErrShape if Groups, Assets or PreviousIndex is neither
 // nil nor of length N. It returns an error wrapping ErrSettings for bad
@@ -144,14 +146,16 @@ func Fit(x mat.Matrix, s Settings) (*Model, error) {
 		p, info.Imputation = d.impute(r, p, k)
 	}
 
+	// Everything is estimated on the unrotated factors; the alignment comes
+	// last and only re-expresses the result, so Σ does not depend on whether
+	// a previous model was given.
 	b, ret := p.v, factorReturns(p)
-	if s.Previous != nil && k > 0 {
-		var al *Alignment
-		b, ret, al, err = align(b, ret, s.Previous, s.PreviousIndex)
-		if err != nil {
-			return nil, err
+	var f *mat.SymDense
+	if k > 0 {
+		f = &mat.SymDense{}
+		if _, _, err := ewma.Estimate(f, ret, r.Covariance); err != nil {
+			return nil, fmt.Errorf("factor: factor covariance: %w", err)
 		}
-		info.Alignment = al
 	}
 
 	resid := d.residuals(ret, b)
@@ -161,12 +165,13 @@ func Fit(x mat.Matrix, s Settings) (*Model, error) {
 	}
 	info.Specific = sp
 
-	var f *mat.SymDense
-	if k > 0 {
-		f = &mat.SymDense{}
-		if _, _, err := ewma.Estimate(f, ret, r.Covariance); err != nil {
-			return nil, fmt.Errorf("factor: factor covariance: %w", err)
+	if s.Previous != nil && k > 0 {
+		var al *Alignment
+		b, f, al, err = align(b, f, s.Previous, s.PreviousIndex)
+		if err != nil {
+			return nil, err
 		}
+		info.Alignment = al
 	}
 	return NewModel(b, f, spec, info)
 }

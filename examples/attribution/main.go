@@ -9,7 +9,7 @@
 // Usage:
 //
 //	go run ./examples/attribution [flags]
-//	go run ./examples/attribution -model /tmp/riskmodel-store -group sector,size_bucket -format html -o report.html
+//	go run ./examples/attribution -model ~/.cache/riskmodel/store -group sector,size_bucket -format html -o report.html
 //
 // Without -model it builds a factor model from the bundled invented demo
 // market (as the nightly job would) and reports on the demo fund against the

@@ -5,12 +5,15 @@ import (
 	"flag"
 	"fmt"
 	"io"
+	"math"
 	"os"
 	"path/filepath"
 	"slices"
 	"strings"
+	"time"
 
 	"github.com/riskmodel/riskmodel"
+	"github.com/riskmodel/riskmodel/internal/userdir"
 )
 
 // Default input files, relative to the repository root.
@@ -22,8 +25,10 @@ var (
 )
 
 // defaultStore is the -out default: outside the repository, so that running
-// the job never writes into testdata/ or the work tree.
-func defaultStore() string { return filepath.Join(os.TempDir(), "riskmodel-store") }
+// the job never writes into testdata/ or the work tree, and in the user's
+// own folder (internal/userdir), never at a fixed path of the shared
+// temporary folder that another local user could plant as a link.
+func defaultStore() (string, error) { return userdir.Dir("store") }
 
 // config is the job's settings, from its flags.
 type config struct {
@@ -36,6 +41,13 @@ type config struct {
 	biasWindow            int
 	minCoverage           float64
 	maxCondition          float64
+
+	periodsPerYear    float64 // 0: inferred from the dates
+	acceptImplausible bool
+	minDates          int
+	setCurrent        bool
+	keep              int
+	lockTimeout       time.Duration
 }
 
 // badInput marks an error caused by the user's flags or files.
@@ -62,6 +74,12 @@ invented demo market and its demo fund and benchmark.
 Exit status: 0 published; 2 bad input, nothing published; 1 other failure,
 nothing published.
 
+The store: two jobs on one -out publish one after the other (a lock; the
+second waits up to -lock-timeout). A model older than the current one (a
+backfill) is published as a dated folder and current stays, unless
+-set-current. -keep N keeps the N newest dated folders (never the current
+one or the one before it).
+
 Flags:
 `)
 		fs.PrintDefaults()
@@ -82,7 +100,14 @@ Flags:
 	fs.IntVar(&b.Factors, "factors", 0, "number of factors (0: chosen by Bai and Ng's IC_p2)")
 	fs.IntVar(&b.MaxFactors, "max-factors", 0, "largest number of factors the criterion considers (0: package default)")
 	seed := fs.Uint64("seed", 1, "seed of the randomized principal components")
-	fs.StringVar(&cfg.out, "out", defaultStore(), "model store folder (dated model folders and a 'current' link)")
+	defOut, defErr := defaultStore()
+	fs.StringVar(&cfg.out, "out", defOut, "model store folder (dated model folders and a 'current' link)")
+	fs.Float64Var(&cfg.periodsPerYear, "periods-per-year", 0, "periods per year of the returns (0: the file's, checked against the spacing of the dates, or inferred from it); a value the dates contradict is refused")
+	fs.BoolVar(&cfg.acceptImplausible, "accept-implausible", false, "build even when the returns look like prices or percent returns (many values above 1, a large median)")
+	fs.IntVar(&cfg.minDates, "min-dates", DefaultMinDates, "fewest dates in the window to build a model from (a variance from T dates is uncertain by about √(2/T))")
+	fs.BoolVar(&cfg.setCurrent, "set-current", false, "make the model current even when it is older than the current one (a backfill)")
+	fs.IntVar(&cfg.keep, "keep", 0, "keep the N newest dated folders of the store, never the current one or the one before it (0: keep all)")
+	fs.DurationVar(&cfg.lockTimeout, "lock-timeout", 2*time.Minute, "how long to wait for another job that is publishing to the store")
 	fs.StringVar(&cfg.dense, "dense", "", "also write the dense N×N covariance (per period, full precision) to this CSV file")
 	fs.StringVar(&cfg.logFormat, "log-format", "text", "log format on stderr: text or json")
 	fs.IntVar(&cfg.biasWindow, "bias-window", 252, "trailing dates of the bias statistic")
@@ -95,6 +120,9 @@ Flags:
 		return cfg, badInput{err}
 	}
 	b.Seed = *seed
+	if cfg.out == "" && defErr != nil {
+		return cfg, badInput{fmt.Errorf("-out: %w", defErr)}
+	}
 	if fs.NArg() > 0 {
 		return cfg, badInput{fmt.Errorf("unexpected argument %q", fs.Arg(0))}
 	}
@@ -139,6 +167,14 @@ func (cfg *config) check(asof string) error {
 		return fmt.Errorf("-max-condition must be above 1, got %g", cfg.maxCondition)
 	case cfg.out == "":
 		return errors.New("-out must name a folder")
+	case cfg.periodsPerYear < 0 || math.IsInf(cfg.periodsPerYear, 0) || math.IsNaN(cfg.periodsPerYear):
+		return fmt.Errorf("-periods-per-year must be positive (or 0 to infer it), got %g", cfg.periodsPerYear)
+	case cfg.minDates < 2:
+		return fmt.Errorf("-min-dates must be at least 2, got %d", cfg.minDates)
+	case cfg.keep < 0:
+		return fmt.Errorf("-keep must not be negative, got %d", cfg.keep)
+	case cfg.lockTimeout < 0:
+		return fmt.Errorf("-lock-timeout must not be negative, got %v", cfg.lockTimeout)
 	case (cfg.portfolio == "") != (cfg.benchmark == ""):
 		return errors.New("-portfolio and -benchmark go together: give both or neither")
 	}

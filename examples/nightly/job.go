@@ -9,6 +9,7 @@ import (
 	"math"
 	"os"
 	"path/filepath"
+	"strconv"
 	"strings"
 	"time"
 
@@ -67,19 +68,39 @@ type inputs struct {
 // job runs the steps in order; the first error stops it before publishing.
 func job(cfg config, stdout io.Writer, log *slog.Logger, bar *progress) error {
 	start := time.Now()
+	// The places the job writes are checked before the work, not after it.
+	if err := checkOutputs(cfg); err != nil {
+		return err
+	}
 	bar.step("read")
 	in, err := readInputs(cfg, log)
 	if err != nil {
 		return err
 	}
+	per, err := frequency(cfg, in.panel, log)
+	if err != nil {
+		return err
+	}
+	in.panel = per.panel
 	t, _ := in.panel.Dims()
 	asof := in.panel.Date(t - 1)
 	if cfg.hasAsof {
 		asof = cfg.asof
 	}
 	bar.step("quality")
-	if err := quality(cfg, in, asof, stdout, log); err != nil {
+	win, err := checkDates(cfg, in.panel, asof, per.medianGap)
+	if err != nil {
 		return err
+	}
+	quality(cfg, in, win, asof, stdout, log)
+	if err := checkUnits(cfg, win); err != nil {
+		return err
+	}
+	if w := unitsWarning(cfg, win); w != "" {
+		log.Warn("-accept-implausible: building from returns that fail the units check", "check", oneLine(w))
+	}
+	if wt, _ := win.Dims(); wt < cfg.build.Window {
+		log.Warn("-window is longer than the history up to -asof: using what there is", "window", cfg.build.Window, "dates", wt, "from", win.Date(0).String())
 	}
 	store := riskmodel.Store{Dir: cfg.out}
 	prev := previous(store, log)
@@ -88,6 +109,7 @@ func job(cfg config, stdout io.Writer, log *slog.Logger, bar *progress) error {
 	if err != nil {
 		return err
 	}
+	m.Settings["periods_per_year_source"] = per.record
 	bar.step("validate")
 	if err := validate(cfg, in, m, stdout, log); err != nil {
 		return err
@@ -106,12 +128,26 @@ func job(cfg config, stdout io.Writer, log *slog.Logger, bar *progress) error {
 	}
 	bar.step("publish")
 	log.Info("writing model", "store", cfg.out, "asof", m.AsOf.String(), "assets", len(m.Assets))
-	dir, err := store.Publish(m)
-	if err != nil {
+	pub, err := store.PublishWith(m, &riskmodel.PublishOptions{LockTimeout: cfg.lockTimeout, SetCurrent: cfg.setCurrent, Keep: cfg.keep})
+	if pub == nil && err != nil {
 		return err
 	}
-	log.Info("published", "model", dir, "elapsed", since(start))
-	fmt.Fprintf(stdout, "Published %s model as of %s for %d assets to %s\n", m.Method, m.AsOf, len(m.Assets), dir)
+	for _, r := range pub.Removed {
+		log.Info("retention: removed an old model", "model", r, "keep", cfg.keep)
+	}
+	if err != nil {
+		// Published and current as reported; only the retention failed.
+		log.Warn("published, but the retention failed", "error", oneLine(err.Error()))
+	}
+	if !pub.Current {
+		log.Warn("backfill: published as a dated folder; current stays (give -set-current to make it current)",
+			"model", pub.Dir, "current", pub.Previous)
+	}
+	log.Info("published", "model", pub.Dir, "current", pub.Current, "elapsed", since(start))
+	fmt.Fprintf(stdout, "Published %s model as of %s for %d assets to %s\n", m.Method, m.AsOf, len(m.Assets), pub.Dir)
+	if !pub.Current {
+		fmt.Fprintf(stdout, "Not made current (a backfill): current stays at %s\n", pub.Previous)
+	}
 	return nil
 }
 
@@ -143,11 +179,7 @@ func readInputs(cfg config, log *slog.Logger) (*inputs, error) {
 	return &in, nil
 }
 
-func quality(cfg config, in *inputs, asof riskmodel.Date, stdout io.Writer, log *slog.Logger) error {
-	win, err := in.panel.Window(asof, cfg.build.Window)
-	if err != nil {
-		return badInput{fmt.Errorf("-asof %s: %w (the file starts on %s)", asof, err, in.panel.Date(0))}
-	}
+func quality(cfg config, in *inputs, win *riskmodel.Panel, asof riskmodel.Date, stdout io.Writer, log *slog.Logger) {
 	minObs := cfg.build.MinObs
 	if minObs == 0 {
 		t, _ := win.Dims()
@@ -161,7 +193,6 @@ func quality(cfg config, in *inputs, asof riskmodel.Date, stdout io.Writer, log 
 	log.Info("data quality", "dates", q.Dates, "assets", q.Assets, "coverage", round(q.Coverage, 4),
 		"implausible", len(q.Implausible), "outliers", len(q.Outliers), "stale_runs", len(q.StaleRuns), "too_few_obs", len(q.Dropped))
 	printSummary(stdout, asof, q, mm)
-	return nil
 }
 
 // previous returns the store's current model, or nil when there is none or
@@ -187,6 +218,7 @@ func build(cfg config, in *inputs, asof riskmodel.Date, prev *riskmodel.Model, l
 	// Sectors group the factor model's specific-variance shrinkage; sectors
 	// and market caps are the exposure and hybrid methods' characteristics.
 	o.Groups = make(map[string]string, len(in.assets))
+	o.GroupsName = "sector"
 	o.Sectors = o.Groups
 	o.MarketCaps = make(map[string]float64, len(in.assets))
 	for _, a := range in.assets {
@@ -286,6 +318,8 @@ func validate(cfg config, in *inputs, m *riskmodel.Model, stdout io.Writer, log 
 		attrs = append(attrs, "bias", round(v.Bias.Value, 4), "bias_band", fmt.Sprintf("[%.3f, %.3f]", v.Bias.Lower, v.Bias.Upper))
 	}
 	log.Info("validated model", attrs...)
+	m.Validation = v.Record()
+	m.Validation["benchmark_weight_covered"] = strconv.FormatFloat(coverage, 'g', -1, 64)
 	printValidation(stdout, v, coverage, len(bench) > 0)
 	switch {
 	case !v.Finite:

@@ -111,7 +111,7 @@ func TestQualitySummaryWithDefaultsFromASubdirectory(t *testing.T) {
 	require.NoError(t, os.MkdirAll(sub, 0o755))
 	t.Chdir(sub)
 	store := t.TempDir()
-	code, out, errs := runJob("-min-obs", "7", "-window", "8", "-method", "sample", "-min-coverage", "0", "-bias-window", "8", "-out", store)
+	code, out, errs := runJob("-min-obs", "7", "-window", "8", "-min-dates", "8", "-method", "sample", "-min-coverage", "0", "-bias-window", "8", "-out", store)
 	require.Equal(t, 0, code, errs)
 	for _, want := range []string{
 		"Data quality as of 2031-03-10: 8 dates from 2031-03-03 to 2031-03-10",
@@ -245,7 +245,7 @@ func TestBadInput(t *testing.T) {
 		{"bad returns file", []string{"-returns", bad, "-assets", assets}, []string{bad, "line 3", `column "return"`, `value "Inf"`, "not finite"}},
 		{"missing assets file", []string{"-returns", rets, "-assets", filepath.Join(root, "none.csv")}, []string{"none.csv", "no such file"}},
 		{"bad holdings", append(files, "-portfolio", badHold, "-benchmark", bench), []string{"hold.csv", `value "x"`}},
-		{"too many factors", append(files, "-window", "8", "-factors", "5", "-min-obs", "2"), []string{"too many factors"}},
+		{"too many factors", append(files, "-window", "8", "-min-dates", "8", "-factors", "5", "-min-obs", "2"), []string{"too many factors"}},
 	} {
 		t.Run(tc.name, func(t *testing.T) {
 			store := t.TempDir()
@@ -286,12 +286,13 @@ func TestFailureLeavesCurrent(t *testing.T) {
 	require.Equal(t, 1, code, errs)
 	require.Contains(t, lastMsg(t, errs), "of the benchmark's weight, below -min-coverage 90.00 %")
 
-	// A store that cannot be written: -out names a file.
+	// A store that cannot be written: -out names a file. It is bad input,
+	// found before anything is read (checks_test.go has the other cases).
 	file := filepath.Join(t.TempDir(), "file")
 	require.NoError(t, os.WriteFile(file, nil, 0o644))
 	code, _, errs = runJob(append(args, "-out", file)...)
-	require.Equal(t, 1, code, errs)
-	require.Contains(t, lastMsg(t, errs), "nothing published")
+	require.Equal(t, 2, code, errs)
+	require.Contains(t, lastMsg(t, errs), "is not a folder; nothing published")
 
 	after, err := riskmodel.Store{Dir: store}.Current()
 	require.NoError(t, err)
@@ -318,7 +319,8 @@ func TestHelp(t *testing.T) {
 	code, _, errs := runJob("-h")
 	require.Equal(t, 0, code)
 	for _, f := range []string{"Usage: nightly", "-returns", "-assets", "-asof", "-window", "-min-obs", "-method", "-out", "-dense",
-		"-log-format", "-vol-half-life", "-factors", "Exit status"} {
+		"-log-format", "-vol-half-life", "-factors", "Exit status",
+		"-periods-per-year", "-accept-implausible", "-min-dates", "-set-current", "-keep", "-lock-timeout", "backfill"} {
 		require.Contains(t, errs, f)
 	}
 	for _, m := range riskmodel.Methods {

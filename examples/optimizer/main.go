@@ -13,7 +13,7 @@
 // Usage:
 //
 //	go run ./examples/optimizer [flags]
-//	go run ./examples/optimizer -model /tmp/riskmodel-store -max-weight 0.02 -names 150 -band 0,0.01
+//	go run ./examples/optimizer -model ~/.cache/riskmodel/store -max-weight 0.02 -names 150 -band 0,0.01
 //
 // Without -model it builds a factor model from the bundled invented demo
 // market and starts from the demo fund, with the demo benchmark as universe.

@@ -15,6 +15,7 @@ import (
 	"gonum.org/v1/gonum/mat"
 
 	"github.com/riskmodel/riskmodel"
+	"github.com/riskmodel/riskmodel/internal/userdir"
 	"github.com/riskmodel/riskmodel/te"
 )
 
@@ -90,7 +91,10 @@ Flags:
 	band := fs.String("band", "0,0.02", "tracking-error band lower,upper, annualised fractions; 0 means no floor or no ceiling")
 	fs.IntVar(&cfg.iterations, "iterations", 5000, "largest number of gradient steps")
 	fs.Float64Var(&cfg.tol, "tol", 1e-10, "stop when no weight moves more than this in a step")
-	fs.StringVar(&cfg.export, "export", filepath.Join(os.TempDir(), "riskmodel-optimizer"), "folder for the square-root form and the weights (CSV)")
+	// The default export folder is the user's own (internal/userdir), never a
+	// fixed path in the shared temporary folder that another user could plant.
+	defExport, defErr := userdir.Dir("optimizer")
+	fs.StringVar(&cfg.export, "export", defExport, "folder for the square-root form and the weights (CSV)")
 	if err := fs.Parse(args); err != nil {
 		if errors.Is(err, flag.ErrHelp) {
 			return cfg, err
@@ -109,6 +113,8 @@ Flags:
 		return cfg, badInput{fmt.Errorf("-iterations must be at least 1, got %d", cfg.iterations)}
 	case !(cfg.tol > 0):
 		return cfg, badInput{fmt.Errorf("-tol must be positive, got %g", cfg.tol)}
+	case cfg.export == "" && defErr != nil:
+		return cfg, badInput{fmt.Errorf("-export: %w", defErr)}
 	case cfg.export == "":
 		return cfg, badInput{errors.New("-export must name a folder")}
 	}
