@@ -2,9 +2,13 @@ package te
 
 import (
 	"math"
+	"runtime"
+	"sync"
 
 	"gonum.org/v1/gonum/blas"
 	"gonum.org/v1/gonum/blas/blas64"
+
+	"github.com/riskmodel/riskmodel/internal/dense"
 )
 
 // Decomposition is the ex-ante tracking error of one portfolio against one
@@ -68,6 +72,7 @@ type Decomposition struct {
 	sa  []float64 // Σa
 	fx  []float64 // F·x (factor form), for groups
 	buf []float64 // scratch K-vectors
+	gsc []float64 // scratch of GroupsTo
 }
 
 // Source is one source of tracking error in the Menchero–Davis form
@@ -150,10 +155,10 @@ func (a *Analyzer) DecomposeTo(dst *Decomposition, portfolio, benchmark []float6
 		d.Factors = d.Factors[:k]
 		x, xb, fxb := d.buf[:k], d.buf[k:2*k], d.buf[2*k:]
 		// sa holds B·F·x first; D·a is added below.
-		gemv(blas.Trans, a.b, act, x)
+		dense.MulVecT(x, a.b, act)
 		gemv(blas.NoTrans, a.f, x, d.fx)
-		gemv(blas.NoTrans, a.b, d.fx, d.sa)
-		gemv(blas.Trans, a.b, benchmark, xb)
+		dense.MulVecDiag(d.sa, a.b, d.fx, nil, nil)
+		dense.MulVecT(xb, a.b, benchmark)
 		gemv(blas.NoTrans, a.f, xb, fxb)
 		fv := dot(x, d.fx)
 		asb = dot(x, fxb)
@@ -202,34 +207,7 @@ func (a *Analyzer) DecomposeTo(dst *Decomposition, portfolio, benchmark []float6
 	if te > 0 {
 		inv = 1 / te
 	}
-	if a.factored {
-		// Σa = BFx + Da: split into its factor and specific parts.
-		sa, spd, fp, sp := d.sa[:n], a.d[:n], d.FactorPart[:n], d.SpecificPart[:n]
-		for i, ai := range act {
-			spec := spd[i] * ai
-			fp[i] = ai * sa[i] * inv
-			sp[i] = ai * spec * inv
-			sa[i] += spec
-		}
-	}
-	// Slices held in locals and cut to n let the compiler drop bounds
-	// checks and keep the headers in registers (stores through d could
-	// otherwise alias them).
-	sa, mg, ct, pc := d.sa[:n], d.Marginal[:n], d.Contribution[:n], d.Percent[:n]
-	cr, hg, ht := d.Correlation[:n], d.Hedge[:n], d.HedgedTE[:n]
-	isd, idg := a.isd[:n], a.idg[:n]
-	for i, ai := range act {
-		sai := sa[i]
-		mg[i] = sai * inv
-		c := ai * sai * inv
-		ct[i] = c
-		pc[i] = 100 * c * inv
-		// isd and idg are 0 where Σ_ii = 0: correlation and hedge 0, TE kept.
-		cr[i] = sai * inv * isd[i]
-		h := -sai * idg[i]
-		hg[i] = h
-		ht[i] = math.Sqrt(max(0, te2+sai*h))
-	}
+	d.perAsset(te2, inv)
 	copy(d.Volatility, a.sd)
 	if a.factored {
 		x := d.buf[:k]
@@ -249,6 +227,68 @@ func (a *Analyzer) DecomposeTo(dst *Decomposition, portfolio, benchmark []float6
 		d.Specific = Source{}
 	}
 	return d, nil
+}
+
+// perAsset fills the per-asset figures from Σa (d.sa, the factor part only
+// in factor form, completed here by D·a). Each asset's figures depend on
+// that asset alone, so the assets are cut into chunks shared among the
+// cores when N is large; the results do not depend on the cut.
+func (d *Decomposition) perAsset(te2, inv float64) {
+	a, n := d.an, d.an.n
+	chunks := 1
+	if n >= perAssetChunk*2 {
+		chunks = min(runtime.GOMAXPROCS(0), (n+perAssetChunk-1)/perAssetChunk)
+	}
+	if chunks <= 1 {
+		d.perAssetRange(a, 0, n, te2, inv)
+		return
+	}
+	var wg sync.WaitGroup
+	step := (n + chunks - 1) / chunks
+	for c := 1; c < chunks; c++ {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			d.perAssetRange(a, c*step, min(n, (c+1)*step), te2, inv)
+		}()
+	}
+	d.perAssetRange(a, 0, step, te2, inv)
+	wg.Wait()
+}
+
+// perAssetChunk is the fewest assets worth a goroutine of perAsset.
+const perAssetChunk = 1024
+
+func (d *Decomposition) perAssetRange(a *Analyzer, lo, hi int, te2, inv float64) {
+	act := d.Active[lo:hi]
+	if a.factored {
+		// Σa = BFx + Da: split into its factor and specific parts.
+		sa, spd, fp, sp := d.sa[lo:hi], a.d[lo:hi], d.FactorPart[lo:hi], d.SpecificPart[lo:hi]
+		for i, ai := range act {
+			spec := spd[i] * ai
+			fp[i] = ai * sa[i] * inv
+			sp[i] = ai * spec * inv
+			sa[i] += spec
+		}
+	}
+	// Slices held in locals and cut to n let the compiler drop bounds
+	// checks and keep the headers in registers (stores through d could
+	// otherwise alias them).
+	sa, mg, ct, pc := d.sa[lo:hi], d.Marginal[lo:hi], d.Contribution[lo:hi], d.Percent[lo:hi]
+	cr, hg, ht := d.Correlation[lo:hi], d.Hedge[lo:hi], d.HedgedTE[lo:hi]
+	isd, idg := a.isd[lo:hi], a.idg[lo:hi]
+	for i, ai := range act {
+		sai := sa[i]
+		mg[i] = sai * inv
+		c := ai * sai * inv
+		ct[i] = c
+		pc[i] = 100 * c * inv
+		// isd and idg are 0 where Σ_ii = 0: correlation and hedge 0, TE kept.
+		cr[i] = sai * inv * isd[i]
+		h := -sai * idg[i]
+		hg[i] = h
+		ht[i] = math.Sqrt(max(0, te2+sai*h))
+	}
 }
 
 // Annual is a decomposition's headline figures annualised.

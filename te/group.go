@@ -3,9 +3,13 @@ package te
 import (
 	"math"
 	"slices"
+	"sync/atomic"
 
 	"gonum.org/v1/gonum/blas"
+	"gonum.org/v1/gonum/blas/blas64"
 	"gonum.org/v1/gonum/mat"
+
+	"github.com/riskmodel/riskmodel/internal/dense"
 )
 
 // Group is the part of the tracking error that falls on one group of assets
@@ -40,6 +44,42 @@ type Grouping struct {
 	names   []string // distinct labels, increasing
 	of      []int    // group of each asset
 	members [][]int  // assets of each group, increasing
+
+	// gathered caches the rows of one Analyzer's loadings B in member
+	// order, group after group, so that each group's exposures Bᵀa_g are
+	// one pass over contiguous rows. It is built on first use by
+	// GroupsTo and replaced when another Analyzer asks.
+	gathered atomic.Pointer[gatheredRows]
+}
+
+// gatheredRows is B (N×K) of the Analyzer an, its rows reordered as the
+// groups' members: row r of b is asset order[r] = the r-th member, groups
+// in order, start[g] the first row of group g.
+type gatheredRows struct {
+	an    *Analyzer
+	b     []float64
+	order []int
+	start []int
+}
+
+// rowsFor returns the loadings of a gathered by group, building them once
+// per Grouping and Analyzer. Cost O(N·K) the first time, O(1) after.
+func (g *Grouping) rowsFor(a *Analyzer) *gatheredRows {
+	if c := g.gathered.Load(); c != nil && c.an == a {
+		return c
+	}
+	k := a.k
+	c := &gatheredRows{an: a, b: make([]float64, len(g.of)*k), order: make([]int, 0, len(g.of)), start: make([]int, len(g.members)+1)}
+	for gi, m := range g.members {
+		c.start[gi] = len(c.order)
+		c.order = append(c.order, m...)
+	}
+	c.start[len(g.members)] = len(c.order)
+	for r, i := range c.order {
+		copy(c.b[r*k:(r+1)*k], a.b.Data[i*a.b.Stride:i*a.b.Stride+k])
+	}
+	g.gathered.Store(c)
+	return c
 }
 
 // NewGrouping prepares a labelling of len(labels) assets. The labels are
@@ -85,7 +125,8 @@ func (d *Decomposition) Groups(labels []string) []Group {
 // asset contributions, so they sum to TE.
 //
 // GroupsTo panics with mat.ErrShape if the grouping does not label N assets.
-// Cost O(N·K + G·K²) in factor form for G groups, O(N + Σ_g n_g²) dense (n_g
+// Cost O(N·K + G·K²) in factor form for G groups (the first call with a
+// Grouping and an Analyzer also copies B, N·K values, gathered by group), O(N + Σ_g n_g²) dense (n_g
 // members of group g).
 //
 // References:
@@ -137,27 +178,25 @@ func (d *Decomposition) groupVariances(gr *Grouping) []float64 {
 	v := make([]float64, ng)
 	if a.factored {
 		k := a.k
-		// x_g = Bᵀa_g for every group in one pass over B.
-		xg := make([]float64, ng*k+k)
-		act, bd, sd := d.Active[:len(of)], a.b.Data, a.d[:len(of)]
-		for i, g := range of {
-			ai := act[i]
-			if ai == 0 {
-				continue
-			}
-			row := bd[i*k : (i+1)*k : (i+1)*k]
-			x := xg[g*k : (g+1)*k : (g+1)*k]
-			x = x[:len(row)]
-			for j, bij := range row {
-				x[j] += ai * bij
-			}
-			v[g] += sd[i] * ai * ai
+		rows := gr.rowsFor(a)
+		// The active weights in member order, then x_g and F·x_g.
+		d.gsc = grow(d.gsc, len(of)+2*k)
+		ag, x, fx := d.gsc[:len(of)], d.gsc[len(of):len(of)+k], d.gsc[len(of)+k:]
+		act, sd := d.Active[:len(of)], a.d[:len(of)]
+		for r, i := range rows.order {
+			ag[r] = act[i]
 		}
-		fx := xg[ng*k:]
 		for g := range v {
-			x := xg[g*k : (g+1)*k]
+			lo, hi := rows.start[g], rows.start[g+1]
+			var spec float64
+			for r := lo; r < hi; r++ {
+				ai := ag[r]
+				spec += sd[rows.order[r]] * ai * ai
+			}
+			b := blas64.General{Rows: hi - lo, Cols: k, Stride: k, Data: rows.b[lo*k : hi*k]}
+			dense.MulVecT(x, b, ag[lo:hi])
 			gemv(blas.NoTrans, a.f, x, fx)
-			v[g] += max(0, dot(x, fx))
+			v[g] = spec + max(0, dot(x, fx))
 		}
 		return v
 	}

@@ -8,7 +8,10 @@ package dense
 func dotAxpyAVX2(n int, a, x, z *float64, s float64) float64
 
 //go:noescape
-func mulTAddAVX2(rows, k4 int, b *float64, ldb int, x, y *float64)
+func mulT16AVX2(rows int, b *float64, ldb int, x, y *float64)
+
+//go:noescape
+func mulT4AVX2(rows int, b *float64, ldb int, x, y *float64)
 
 //go:noescape
 func mulRowsAVX2(rows, k4 int, b *float64, ldb int, z, d, x, dst *float64)
@@ -26,7 +29,8 @@ func dotAxpyVec(a, x, z []float64, s float64) float64 {
 	return dotAxpyAVX2(n, &a[0], &x[0], &z[0], s)
 }
 
-// mulTAdd adds Σ_{i<rows} x_i b_i (row i of b, stride ldb, k values) to y.
+// mulTAdd adds Σ_{i<rows} x_i b_i (row i of b, stride ldb, k values) to y:
+// sixteen and then four columns at a time, their sums in registers.
 func mulTAdd(rows, k int, b []float64, ldb int, x, y []float64) {
 	if rows == 0 || k == 0 {
 		return
@@ -37,7 +41,13 @@ func mulTAdd(rows, k int, b []float64, ldb int, x, y []float64) {
 		return
 	}
 	_, _, _ = b[(rows-1)*ldb+k-1], x[rows-1], y[k-1]
-	mulTAddAVX2(rows, k4, &b[0], ldb, &x[0], &y[0])
+	c := 0
+	for ; c+16 <= k4; c += 16 {
+		mulT16AVX2(rows, &b[c], ldb, &x[0], &y[c])
+	}
+	for ; c < k4; c += 4 {
+		mulT4AVX2(rows, &b[c], ldb, &x[0], &y[c])
+	}
 	mulTAddGo(rows, k4, k, b, ldb, x, y)
 }
 

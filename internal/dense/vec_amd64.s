@@ -59,60 +59,122 @@ done:
 	VZEROUPPER
 	RET
 
-// func mulTAddAVX2(rows, k4 int, b *float64, ldb int, x, y *float64)
-// Sets y_c ← y_c + Σ_i x_i b_ic for c < k4 (a multiple of 4), rows in
-// order, one fused multiply-add per row: two rows a step share each load
-// and store of y.
-TEXT ·mulTAddAVX2(SB), NOSPLIT, $0-48
+// func mulT16AVX2(rows int, b *float64, ldb int, x, y *float64)
+// Adds Σ_i x_i b_ic to y_c for c < 16, the sums held in registers: even
+// rows in Y0–Y3, odd rows in Y4–Y7 (two chains, so that the fused
+// multiply-adds do not wait on each other), each in order of i; then
+// y_c ← y_c + (even_c + odd_c).
+TEXT ·mulT16AVX2(SB), NOSPLIT, $0-40
 	MOVQ rows+0(FP), CX
-	MOVQ k4+8(FP), R8
-	MOVQ b+16(FP), SI
-	MOVQ ldb+24(FP), R9
+	MOVQ b+8(FP), SI
+	MOVQ ldb+16(FP), R9
 	SHLQ $3, R9
-	MOVQ x+32(FP), DI
-	MOVQ y+40(FP), DX
+	MOVQ x+24(FP), DI
+	MOVQ y+32(FP), DX
+	VXORPD Y0, Y0, Y0
+	VXORPD Y1, Y1, Y1
+	VXORPD Y2, Y2, Y2
+	VXORPD Y3, Y3, Y3
+	VXORPD Y4, Y4, Y4
+	VXORPD Y5, Y5, Y5
+	VXORPD Y6, Y6, Y6
+	VXORPD Y7, Y7, Y7
 	XORQ AX, AX
 
-two:
+t16_two:
 	LEAQ 2(AX), R10
 	CMPQ R10, CX
-	JG   one
-	VBROADCASTSD (DI)(AX*8), Y0
-	VBROADCASTSD 8(DI)(AX*8), Y1
+	JG   t16_one
 	LEAQ (SI)(R9*1), R11
-	XORQ BX, BX
-
-two_cols:
-	CMPQ BX, R8
-	JGE  two_next
-	VMOVUPD (DX)(BX*8), Y2
-	VFMADD231PD (SI)(BX*8), Y0, Y2
-	VFMADD231PD (R11)(BX*8), Y1, Y2
-	VMOVUPD Y2, (DX)(BX*8)
-	ADDQ $4, BX
-	JMP  two_cols
-
-two_next:
+	VBROADCASTSD (DI)(AX*8), Y8
+	VBROADCASTSD 8(DI)(AX*8), Y9
+	VFMADD231PD (SI), Y8, Y0
+	VFMADD231PD 32(SI), Y8, Y1
+	VFMADD231PD 64(SI), Y8, Y2
+	VFMADD231PD 96(SI), Y8, Y3
+	VFMADD231PD (R11), Y9, Y4
+	VFMADD231PD 32(R11), Y9, Y5
+	VFMADD231PD 64(R11), Y9, Y6
+	VFMADD231PD 96(R11), Y9, Y7
 	LEAQ (R11)(R9*1), SI
-	ADDQ $2, AX
-	JMP  two
+	MOVQ R10, AX
+	JMP  t16_two
 
-one:
+t16_one:
 	CMPQ AX, CX
-	JGE  end
-	VBROADCASTSD (DI)(AX*8), Y0
-	XORQ BX, BX
+	JGE  t16_sum
+	VBROADCASTSD (DI)(AX*8), Y8
+	VFMADD231PD (SI), Y8, Y0
+	VFMADD231PD 32(SI), Y8, Y1
+	VFMADD231PD 64(SI), Y8, Y2
+	VFMADD231PD 96(SI), Y8, Y3
 
-one_cols:
-	CMPQ BX, R8
-	JGE  end
-	VMOVUPD (DX)(BX*8), Y2
-	VFMADD231PD (SI)(BX*8), Y0, Y2
-	VMOVUPD Y2, (DX)(BX*8)
-	ADDQ $4, BX
-	JMP  one_cols
+t16_sum:
+	VADDPD Y4, Y0, Y0
+	VADDPD Y5, Y1, Y1
+	VADDPD Y6, Y2, Y2
+	VADDPD Y7, Y3, Y3
+	VADDPD (DX), Y0, Y0
+	VADDPD 32(DX), Y1, Y1
+	VADDPD 64(DX), Y2, Y2
+	VADDPD 96(DX), Y3, Y3
+	VMOVUPD Y0, (DX)
+	VMOVUPD Y1, 32(DX)
+	VMOVUPD Y2, 64(DX)
+	VMOVUPD Y3, 96(DX)
+	VZEROUPPER
+	RET
 
-end:
+// func mulT4AVX2(rows int, b *float64, ldb int, x, y *float64)
+// As mulT16AVX2 for c < 4: rows i ≡ 0, 1, 2, 3 mod 4 in Y0–Y3, then
+// y ← y + ((Y0 + Y1) + (Y2 + Y3)).
+TEXT ·mulT4AVX2(SB), NOSPLIT, $0-40
+	MOVQ rows+0(FP), CX
+	MOVQ b+8(FP), SI
+	MOVQ ldb+16(FP), R9
+	SHLQ $3, R9
+	MOVQ x+24(FP), DI
+	MOVQ y+32(FP), DX
+	VXORPD Y0, Y0, Y0
+	VXORPD Y1, Y1, Y1
+	VXORPD Y2, Y2, Y2
+	VXORPD Y3, Y3, Y3
+	XORQ AX, AX
+
+t4_four:
+	LEAQ 4(AX), R10
+	CMPQ R10, CX
+	JG   t4_one
+	VBROADCASTSD (DI)(AX*8), Y8
+	VBROADCASTSD 8(DI)(AX*8), Y9
+	VBROADCASTSD 16(DI)(AX*8), Y10
+	VBROADCASTSD 24(DI)(AX*8), Y11
+	VFMADD231PD (SI), Y8, Y0
+	ADDQ R9, SI
+	VFMADD231PD (SI), Y9, Y1
+	ADDQ R9, SI
+	VFMADD231PD (SI), Y10, Y2
+	ADDQ R9, SI
+	VFMADD231PD (SI), Y11, Y3
+	ADDQ R9, SI
+	MOVQ R10, AX
+	JMP  t4_four
+
+t4_one:
+	CMPQ AX, CX
+	JGE  t4_sum
+	VBROADCASTSD (DI)(AX*8), Y8
+	VFMADD231PD (SI), Y8, Y0
+	ADDQ R9, SI
+	INCQ AX
+	JMP  t4_one
+
+t4_sum:
+	VADDPD Y1, Y0, Y0
+	VADDPD Y3, Y2, Y2
+	VADDPD Y2, Y0, Y0
+	VADDPD (DX), Y0, Y0
+	VMOVUPD Y0, (DX)
 	VZEROUPPER
 	RET
 
