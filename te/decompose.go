@@ -261,24 +261,31 @@ const perAssetChunk = 1024
 
 func (d *Decomposition) perAssetRange(a *Analyzer, lo, hi int, te2, inv float64) {
 	act := d.Active[lo:hi]
-	if a.factored {
-		// Σa = BFx + Da: split into its factor and specific parts.
-		sa, spd, fp, sp := d.sa[lo:hi], a.d[lo:hi], d.FactorPart[lo:hi], d.SpecificPart[lo:hi]
-		for i, ai := range act {
-			spec := spd[i] * ai
-			fp[i] = ai * sa[i] * inv
-			sp[i] = ai * spec * inv
-			sa[i] += spec
-		}
-	}
-	// Slices held in locals and cut to n let the compiler drop bounds
+	// Slices cut to the same length as act let the compiler drop bounds
 	// checks and keep the headers in registers (stores through d could
 	// otherwise alias them).
-	sa, mg, ct, pc := d.sa[lo:hi], d.Marginal[lo:hi], d.Contribution[lo:hi], d.Percent[lo:hi]
-	cr, hg, ht := d.Correlation[lo:hi], d.Hedge[lo:hi], d.HedgedTE[lo:hi]
-	isd, idg := a.isd[lo:hi], a.idg[lo:hi]
-	for i, ai := range act {
+	n := len(act)
+	sa, mg, ct, pc := d.sa[lo:hi][:n], d.Marginal[lo:hi][:n], d.Contribution[lo:hi][:n], d.Percent[lo:hi][:n]
+	cr, hg, ht := d.Correlation[lo:hi][:n], d.Hedge[lo:hi][:n], d.HedgedTE[lo:hi][:n]
+	isd, idg := a.isd[lo:hi][:n], a.idg[lo:hi][:n]
+	var spd, fp, sp []float64
+	if a.factored {
+		spd, fp, sp = a.d[lo:hi][:n], d.FactorPart[lo:hi][:n], d.SpecificPart[lo:hi][:n]
+	}
+	// The first assets four at a time with AVX2 (the same roundings), the
+	// rest here.
+	done := vectorFigures(act, sa, spd, fp, sp, isd, idg, mg, ct, pc, cr, hg, ht, te2, inv)
+	for i := done; i < n; i++ {
+		ai := act[i]
 		sai := sa[i]
+		if spd != nil {
+			// Σa = BFx + Da: split into its factor and specific parts.
+			spec := spd[i] * ai
+			fp[i] = ai * sai * inv
+			sp[i] = ai * spec * inv
+			sai += spec
+			sa[i] = sai
+		}
 		mg[i] = sai * inv
 		c := ai * sai * inv
 		ct[i] = c

@@ -110,3 +110,8 @@ func symvRows4(n int, a []float64, lda int, x, z []float64, s *[4]float64, out *
 	}
 	return true
 }
+
+// VectorKernels reports whether the AVX2 vector kernels run on this CPU
+// (and build), for packages with kernels of their own to follow the same
+// choice.
+func VectorKernels() bool { return vecAVX2 }

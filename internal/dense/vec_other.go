@@ -19,3 +19,7 @@ func setVecAVX2(bool) {}
 func symvRows4(int, []float64, int, []float64, []float64, *[4]float64, *[4]float64) bool {
 	return false
 }
+
+// VectorKernels reports whether the AVX2 vector kernels run: never in this
+// build.
+func VectorKernels() bool { return false }
