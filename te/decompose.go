@@ -2,8 +2,6 @@ package te
 
 import (
 	"math"
-	"runtime"
-	"sync"
 
 	"gonum.org/v1/gonum/blas"
 	"gonum.org/v1/gonum/blas/blas64"
@@ -230,34 +228,11 @@ func (a *Analyzer) DecomposeTo(dst *Decomposition, portfolio, benchmark []float6
 }
 
 // perAsset fills the per-asset figures from Σa (d.sa, the factor part only
-// in factor form, completed here by D·a). Each asset's figures depend on
-// that asset alone, so the assets are cut into chunks shared among the
-// cores when N is large; the results do not depend on the cut.
+// in factor form, completed here by D·a). (Shared among two cores they were
+// slower: waking a goroutine costs more than the AVX2 loop.)
 func (d *Decomposition) perAsset(te2, inv float64) {
-	a, n := d.an, d.an.n
-	chunks := 1
-	if n >= perAssetChunk*2 {
-		chunks = min(runtime.GOMAXPROCS(0), (n+perAssetChunk-1)/perAssetChunk)
-	}
-	if chunks <= 1 {
-		d.perAssetRange(a, 0, n, te2, inv)
-		return
-	}
-	var wg sync.WaitGroup
-	step := (n + chunks - 1) / chunks
-	for c := 1; c < chunks; c++ {
-		wg.Add(1)
-		go func() {
-			defer wg.Done()
-			d.perAssetRange(a, c*step, min(n, (c+1)*step), te2, inv)
-		}()
-	}
-	d.perAssetRange(a, 0, step, te2, inv)
-	wg.Wait()
+	d.perAssetRange(d.an, 0, d.an.n, te2, inv)
 }
-
-// perAssetChunk is the fewest assets worth a goroutine of perAsset.
-const perAssetChunk = 1024
 
 func (d *Decomposition) perAssetRange(a *Analyzer, lo, hi int, te2, inv float64) {
 	act := d.Active[lo:hi]

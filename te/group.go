@@ -150,16 +150,7 @@ func (d *Decomposition) GroupsTo(dst []Group, gr *Grouping) []Group {
 	if d.TE > 0 {
 		inv = 1 / d.TE
 	}
-	for i, g := range gr.of {
-		p := &gs[g]
-		p.ActiveWeight += d.Active[i]
-		p.Contribution += d.Contribution[i]
-		if d.Factored {
-			p.Factor += d.FactorPart[i]
-			p.Specific += d.SpecificPart[i]
-		}
-	}
-	vars := d.groupVariances(gr)
+	vars := d.groupSums(gs, gr)
 	for g := range gs {
 		p := &gs[g]
 		p.Percent = 100 * p.Contribution * inv
@@ -171,34 +162,50 @@ func (d *Decomposition) GroupsTo(dst []Group, gr *Grouping) []Group {
 	return gs
 }
 
-// groupVariances returns a_gᵀΣa_g for each group g.
-func (d *Decomposition) groupVariances(gr *Grouping) []float64 {
+// groupSums sets each group's ActiveWeight, Contribution, Factor and
+// Specific (sums over its members in increasing asset order, in registers
+// rather than through the Group structs) and returns a_gᵀΣa_g for each
+// group g, in one pass over the members in factor form.
+func (d *Decomposition) groupSums(gs []Group, gr *Grouping) []float64 {
 	a := d.an
-	of, ng := gr.of, len(gr.names)
+	n, ng := a.n, len(gr.names)
 	v := make([]float64, ng)
+	act, ct := d.Active[:n], d.Contribution[:n]
 	if a.factored {
 		k := a.k
 		rows := gr.rowsFor(a)
 		// The active weights in member order, then x_g and F·x_g.
-		d.gsc = grow(d.gsc, len(of)+2*k)
-		ag, x, fx := d.gsc[:len(of)], d.gsc[len(of):len(of)+k], d.gsc[len(of)+k:]
-		act, sd := d.Active[:len(of)], a.d[:len(of)]
-		for r, i := range rows.order {
-			ag[r] = act[i]
-		}
+		d.gsc = grow(d.gsc, n+2*k)
+		ag, x, fx := d.gsc[:n], d.gsc[n:n+k], d.gsc[n+k:]
+		sd, fp, spp := a.d[:n], d.FactorPart[:n], d.SpecificPart[:n]
 		for g := range v {
 			lo, hi := rows.start[g], rows.start[g+1]
-			var spec float64
-			for r := lo; r < hi; r++ {
-				ai := ag[r]
-				spec += sd[rows.order[r]] * ai * ai
+			var aw, c, f, sp, spec float64
+			for r, i := range rows.order[lo:hi] {
+				ai := act[i]
+				ag[lo+r] = ai
+				aw += ai
+				c += ct[i]
+				f += fp[i]
+				sp += spp[i]
+				spec += sd[i] * ai * ai
 			}
+			p := &gs[g]
+			p.ActiveWeight, p.Contribution, p.Factor, p.Specific = aw, c, f, sp
 			b := blas64.General{Rows: hi - lo, Cols: k, Stride: k, Data: rows.b[lo*k : hi*k]}
 			dense.MulVecT(x, b, ag[lo:hi])
 			gemv(blas.NoTrans, a.f, x, fx)
 			v[g] = spec + max(0, dot(x, fx))
 		}
 		return v
+	}
+	for g, m := range gr.members {
+		var aw, c float64
+		for _, i := range m {
+			aw += act[i]
+			c += ct[i]
+		}
+		gs[g].ActiveWeight, gs[g].Contribution = aw, c
 	}
 	for g, m := range gr.members {
 		var s float64
