@@ -78,6 +78,10 @@ func (c *Cholesky) Factorize(a mat.Symmetric) (ok bool) {
 	}
 	if viaBLAS {
 		_, c.ok = lapack64.Potrf(blas64.Symmetric{N: n, Stride: n, Data: c.u, Uplo: blas.Upper})
+		// dpotrf takes a +Inf pivot for positive; this package does not.
+		for j := 0; j < n && c.ok; j++ {
+			c.ok = !math.IsInf(c.u[j*n+j], 0)
+		}
 	} else {
 		c.ok = cholRecursive(c.u, n, 0, n)
 	}
