@@ -7,6 +7,8 @@ import (
 	"github.com/riskmodel/riskmodel/internal/dense"
 	"gonum.org/v1/gonum/blas/blas64"
 	"gonum.org/v1/gonum/mat"
+
+	"github.com/riskmodel/riskmodel/internal/dense"
 )
 
 // DefaultMaxCondition is the condition number above which Validate reports a
@@ -117,17 +119,15 @@ func Validate(m *Model, opts *ValidateOptions) *Validation {
 				break
 			}
 		}
-		var chol mat.Cholesky
+		var chol dense.Cholesky // blocked, on all cores
 		v.PositiveDefinite = chol.Factorize(s)
-		mul = func(dst, x []float64) {
-			blas64.Symv(1, raw, blas64.Vector{N: n, Inc: 1, Data: x}, 0, blas64.Vector{N: n, Inc: 1, Data: dst})
-		}
+		mul = func(dst, x []float64) { dense.SymVec(dst, raw, x) }
 		solve = func(dst, x []float64) bool {
-			var out mat.VecDense
-			if err := chol.SolveVecTo(&out, mat.NewVecDense(n, x)); err != nil {
-				return false
+			for _, y := range chol.SolveVecTo(dst, x) {
+				if math.IsNaN(y) || math.IsInf(y, 0) {
+					return false
+				}
 			}
-			copy(dst, out.RawVector().Data)
 			return true
 		}
 	}

@@ -24,21 +24,31 @@ func (m *Model) MulVecTo(dst, x []float64) []float64 {
 		}
 		return dst
 	}
-	y := make([]float64, 2*m.k)
-	z := y[m.k:]
+	// The K-vectors live on the stack for the usual K.
+	var buf [64]float64
+	y := buf[:]
+	if 2*m.k > len(buf) {
+		y = make([]float64, 2*m.k)
+	}
+	z := y[m.k : 2*m.k]
 	y = y[:m.k]
 	braw := m.b.RawMatrix()
-	blas64.Gemv(blas.Trans, 1, braw, blas64.Vector{N: m.n, Inc: 1, Data: x}, 0, blas64.Vector{N: m.k, Inc: 1, Data: y})
-	blas64.Symv(1, m.f.RawSymmetric(), blas64.Vector{N: m.k, Inc: 1, Data: y}, 0, blas64.Vector{N: m.k, Inc: 1, Data: z})
-	// Row i of the result reads x_i before writing dst_i, so dst may alias x.
-	for i := 0; i < m.n; i++ {
-		row := braw.Data[i*braw.Stride : i*braw.Stride+m.k]
-		var s float64
-		for j, v := range row {
-			s += v * z[j]
+	dense.MulVecT(y, braw, x)
+	// z = F·y from the upper triangle of F; blas64.Symv would move the
+	// buffer to the heap.
+	f := m.f.RawSymmetric()
+	clear(z)
+	for i, yi := range y {
+		row := f.Data[i*f.Stride+i : i*f.Stride+m.k]
+		s := row[0] * yi
+		for j := 1; j < len(row); j++ {
+			s += row[j] * y[i+j]
+			z[i+j] += row[j] * yi
 		}
-		dst[i] = m.d[i]*x[i] + s
+		z[i] += s
 	}
+	// Row i of the result reads x_i before writing dst_i, so dst may alias x.
+	dense.MulVecDiag(dst, braw, z, m.d, x)
 	return dst
 }
 

@@ -122,11 +122,13 @@ func lwFinish(s *sample, mu, d2, fro2, quad float64) LinearResult {
 // blendIdentity sets a to (1−δ)a + δμI in place.
 func blendIdentity(a *mat.SymDense, delta, mu float64) {
 	raw := a.RawSymmetric()
-	for i := 0; i < raw.N; i++ {
-		row := raw.Data[i*raw.Stride+i : i*raw.Stride+raw.N]
-		for j := range row {
-			row[j] *= 1 - delta
+	forTriBlocks(raw.N, func(_, lo, hi int) {
+		for i := lo; i < hi; i++ {
+			row := raw.Data[i*raw.Stride+i : i*raw.Stride+raw.N]
+			for j := range row {
+				row[j] *= 1 - delta
+			}
+			row[0] += delta * mu
 		}
-		row[0] += delta * mu
-	}
+	})
 }

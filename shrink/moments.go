@@ -15,12 +15,14 @@ func (s *sample) covTo(dst *mat.SymDense) *mat.SymDense {
 		// weights bit-close to the reference.
 		raw := dst.RawSymmetric()
 		inv := 1 / float64(s.t)
-		for i := 0; i < s.n; i++ {
-			row := raw.Data[i*raw.Stride+i : i*raw.Stride+s.n]
-			for j := range row {
-				row[j] *= inv
+		forTriBlocks(s.n, func(_, lo, hi int) {
+			for i := lo; i < hi; i++ {
+				row := raw.Data[i*raw.Stride+i : i*raw.Stride+s.n]
+				for j := range row {
+					row[j] *= inv
+				}
 			}
-		}
+		})
 	}
 	return dst
 }
@@ -39,18 +41,46 @@ func (s *sample) rowSq() []float64 {
 	return r
 }
 
-// frob2 returns ‖a‖²_F = Σ_ij a_ij².
+// frob2 returns ‖a‖²_F = Σ_ij a_ij²: per block of rows (forTriBlocks) the
+// diagonal and the off-diagonal squares, then Σ diag + 2·Σ off in block
+// order.
 func frob2(a *mat.SymDense) float64 {
 	raw := a.RawSymmetric()
-	var diag, off float64
-	for i := 0; i < raw.N; i++ {
-		row := raw.Data[i*raw.Stride : i*raw.Stride+raw.N]
-		diag += row[i] * row[i]
-		for _, v := range row[i+1:] {
-			off += v * v
+	b := triBlocks(raw.N)
+	diag := make([]float64, len(b))
+	off := make([]float64, len(b))
+	forTriBlocks(raw.N, func(k, lo, hi int) {
+		var d, o float64
+		for i := lo; i < hi; i++ {
+			row := raw.Data[i*raw.Stride : i*raw.Stride+raw.N]
+			d += row[i] * row[i]
+			o += sumSquares(row[i+1:])
 		}
+		diag[k], off[k] = d, o
+	})
+	var d, o float64
+	for k := range diag {
+		d += diag[k]
+		o += off[k]
 	}
-	return diag + 2*off
+	return d + 2*o
+}
+
+// sumSquares returns Σ v², in four interleaved partial sums added in a
+// fixed order (one chain of additions would wait on each other).
+func sumSquares(x []float64) float64 {
+	var s0, s1, s2, s3 float64
+	j := 0
+	for ; j+4 <= len(x); j += 4 {
+		s0 += x[j] * x[j]
+		s1 += x[j+1] * x[j+1]
+		s2 += x[j+2] * x[j+2]
+		s3 += x[j+3] * x[j+3]
+	}
+	for ; j < len(x); j++ {
+		s0 += x[j] * x[j]
+	}
+	return (s0 + s1) + (s2 + s3)
 }
 
 // gramMoments holds what the linear intensities need, computed from the T×T

@@ -219,12 +219,9 @@ func (a *Analyzer) MulVecTo(dst, x []float64) []float64 {
 
 // factorMul sets dst = Σx, bx = Bᵀx and fbx = F·Bᵀx.
 func (a *Analyzer) factorMul(dst, x, bx, fbx []float64) {
-	gemv(blas.Trans, a.b, x, bx)
+	dense.MulVecT(bx, a.b, x)
 	gemv(blas.NoTrans, a.f, bx, fbx)
-	gemv(blas.NoTrans, a.b, fbx, dst)
-	for i, v := range x {
-		dst[i] += a.d[i] * v
-	}
+	dense.MulVecDiag(dst, a.b, fbx, a.d, x)
 }
 
 // TrackingError returns the ex-ante tracking error per period,
@@ -245,7 +242,7 @@ func (a *Analyzer) TrackingError(portfolio, benchmark []float64) (float64, error
 	var te2 float64
 	if a.factored {
 		x := make([]float64, 2*a.k)
-		gemv(blas.Trans, a.b, act, x[:a.k])
+		dense.MulVecT(x[:a.k], a.b, act)
 		gemv(blas.NoTrans, a.f, x[:a.k], x[a.k:])
 		// The same sums in the same order as DecomposeTo, so both give
 		// bit-identical TE.

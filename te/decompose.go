@@ -5,6 +5,8 @@ import (
 
 	"gonum.org/v1/gonum/blas"
 	"gonum.org/v1/gonum/blas/blas64"
+
+	"github.com/riskmodel/riskmodel/internal/dense"
 )
 
 // Decomposition is the ex-ante tracking error of one portfolio against one
@@ -68,6 +70,7 @@ type Decomposition struct {
 	sa  []float64 // Σa
 	fx  []float64 // F·x (factor form), for groups
 	buf []float64 // scratch K-vectors
+	gsc []float64 // scratch of GroupsTo
 }
 
 // Source is one source of tracking error in the Menchero–Davis form
@@ -150,10 +153,10 @@ func (a *Analyzer) DecomposeTo(dst *Decomposition, portfolio, benchmark []float6
 		d.Factors = d.Factors[:k]
 		x, xb, fxb := d.buf[:k], d.buf[k:2*k], d.buf[2*k:]
 		// sa holds B·F·x first; D·a is added below.
-		gemv(blas.Trans, a.b, act, x)
+		dense.MulVecT(x, a.b, act)
 		gemv(blas.NoTrans, a.f, x, d.fx)
-		gemv(blas.NoTrans, a.b, d.fx, d.sa)
-		gemv(blas.Trans, a.b, benchmark, xb)
+		dense.MulVecDiag(d.sa, a.b, d.fx, nil, nil)
+		dense.MulVecT(xb, a.b, benchmark)
 		gemv(blas.NoTrans, a.f, xb, fxb)
 		fv := dot(x, d.fx)
 		asb = dot(x, fxb)
@@ -202,34 +205,7 @@ func (a *Analyzer) DecomposeTo(dst *Decomposition, portfolio, benchmark []float6
 	if te > 0 {
 		inv = 1 / te
 	}
-	if a.factored {
-		// Σa = BFx + Da: split into its factor and specific parts.
-		sa, spd, fp, sp := d.sa[:n], a.d[:n], d.FactorPart[:n], d.SpecificPart[:n]
-		for i, ai := range act {
-			spec := spd[i] * ai
-			fp[i] = ai * sa[i] * inv
-			sp[i] = ai * spec * inv
-			sa[i] += spec
-		}
-	}
-	// Slices held in locals and cut to n let the compiler drop bounds
-	// checks and keep the headers in registers (stores through d could
-	// otherwise alias them).
-	sa, mg, ct, pc := d.sa[:n], d.Marginal[:n], d.Contribution[:n], d.Percent[:n]
-	cr, hg, ht := d.Correlation[:n], d.Hedge[:n], d.HedgedTE[:n]
-	isd, idg := a.isd[:n], a.idg[:n]
-	for i, ai := range act {
-		sai := sa[i]
-		mg[i] = sai * inv
-		c := ai * sai * inv
-		ct[i] = c
-		pc[i] = 100 * c * inv
-		// isd and idg are 0 where Σ_ii = 0: correlation and hedge 0, TE kept.
-		cr[i] = sai * inv * isd[i]
-		h := -sai * idg[i]
-		hg[i] = h
-		ht[i] = math.Sqrt(max(0, te2+sai*h))
-	}
+	d.perAsset(te2, inv)
 	copy(d.Volatility, a.sd)
 	if a.factored {
 		x := d.buf[:k]
@@ -249,6 +225,52 @@ func (a *Analyzer) DecomposeTo(dst *Decomposition, portfolio, benchmark []float6
 		d.Specific = Source{}
 	}
 	return d, nil
+}
+
+// perAsset fills the per-asset figures from Σa (d.sa, the factor part only
+// in factor form, completed here by D·a). (Shared among two cores they were
+// slower: waking a goroutine costs more than the AVX2 loop.)
+func (d *Decomposition) perAsset(te2, inv float64) {
+	d.perAssetRange(d.an, 0, d.an.n, te2, inv)
+}
+
+func (d *Decomposition) perAssetRange(a *Analyzer, lo, hi int, te2, inv float64) {
+	act := d.Active[lo:hi]
+	// Slices cut to the same length as act let the compiler drop bounds
+	// checks and keep the headers in registers (stores through d could
+	// otherwise alias them).
+	n := len(act)
+	sa, mg, ct, pc := d.sa[lo:hi][:n], d.Marginal[lo:hi][:n], d.Contribution[lo:hi][:n], d.Percent[lo:hi][:n]
+	cr, hg, ht := d.Correlation[lo:hi][:n], d.Hedge[lo:hi][:n], d.HedgedTE[lo:hi][:n]
+	isd, idg := a.isd[lo:hi][:n], a.idg[lo:hi][:n]
+	var spd, fp, sp []float64
+	if a.factored {
+		spd, fp, sp = a.d[lo:hi][:n], d.FactorPart[lo:hi][:n], d.SpecificPart[lo:hi][:n]
+	}
+	// The first assets four at a time with AVX2 (the same roundings), the
+	// rest here.
+	done := vectorFigures(act, sa, spd, fp, sp, isd, idg, mg, ct, pc, cr, hg, ht, te2, inv)
+	for i := done; i < n; i++ {
+		ai := act[i]
+		sai := sa[i]
+		if spd != nil {
+			// Σa = BFx + Da: split into its factor and specific parts.
+			spec := spd[i] * ai
+			fp[i] = ai * sai * inv
+			sp[i] = ai * spec * inv
+			sai += spec
+			sa[i] = sai
+		}
+		mg[i] = sai * inv
+		c := ai * sai * inv
+		ct[i] = c
+		pc[i] = 100 * c * inv
+		// isd and idg are 0 where Σ_ii = 0: correlation and hedge 0, TE kept.
+		cr[i] = sai * inv * isd[i]
+		h := -sai * idg[i]
+		hg[i] = h
+		ht[i] = math.Sqrt(max(0, te2+sai*h))
+	}
 }
 
 // Annual is a decomposition's headline figures annualised.

@@ -3,8 +3,10 @@ package te
 import (
 	"math"
 	"slices"
+	"sync/atomic"
 
 	"gonum.org/v1/gonum/blas"
+	"gonum.org/v1/gonum/blas/blas64"
 	"gonum.org/v1/gonum/mat"
 
 	"github.com/riskmodel/riskmodel/internal/dense"
@@ -42,6 +44,42 @@ type Grouping struct {
 	names   []string // distinct labels, increasing
 	of      []int    // group of each asset
 	members [][]int  // assets of each group, increasing
+
+	// gathered caches the rows of one Analyzer's loadings B in member
+	// order, group after group, so that each group's exposures Bᵀa_g are
+	// one pass over contiguous rows. It is built on first use by
+	// GroupsTo and replaced when another Analyzer asks.
+	gathered atomic.Pointer[gatheredRows]
+}
+
+// gatheredRows is B (N×K) of the Analyzer an, its rows reordered as the
+// groups' members: row r of b is asset order[r] = the r-th member, groups
+// in order, start[g] the first row of group g.
+type gatheredRows struct {
+	an    *Analyzer
+	b     []float64
+	order []int
+	start []int
+}
+
+// rowsFor returns the loadings of a gathered by group, building them once
+// per Grouping and Analyzer. Cost O(N·K) the first time, O(1) after.
+func (g *Grouping) rowsFor(a *Analyzer) *gatheredRows {
+	if c := g.gathered.Load(); c != nil && c.an == a {
+		return c
+	}
+	k := a.k
+	c := &gatheredRows{an: a, b: make([]float64, len(g.of)*k), order: make([]int, 0, len(g.of)), start: make([]int, len(g.members)+1)}
+	for gi, m := range g.members {
+		c.start[gi] = len(c.order)
+		c.order = append(c.order, m...)
+	}
+	c.start[len(g.members)] = len(c.order)
+	for r, i := range c.order {
+		copy(c.b[r*k:(r+1)*k], a.b.Data[i*a.b.Stride:i*a.b.Stride+k])
+	}
+	g.gathered.Store(c)
+	return c
 }
 
 // NewGrouping prepares a labelling of len(labels) assets. The labels are
@@ -88,7 +126,8 @@ func (d *Decomposition) Groups(labels []string) []Group {
 // asset contributions, so they sum to TE.
 //
 // GroupsTo panics with mat.ErrShape if the grouping does not label N assets.
-// Cost O(N·K + G·K²) in factor form for G groups, O(N + Σ_g n_g²) dense (n_g
+// Cost O(N·K + G·K²) in factor form for G groups (the first call with a
+// Grouping and an Analyzer also copies B, N·K values, gathered by group), O(N + Σ_g n_g²) dense (n_g
 // members of group g).
 //
 // References:
@@ -108,16 +147,7 @@ func (d *Decomposition) GroupsTo(dst []Group, gr *Grouping) []Group {
 	if d.TE > 0 {
 		inv = 1 / d.TE
 	}
-	for i, g := range gr.of {
-		p := &gs[g]
-		p.ActiveWeight += d.Active[i]
-		p.Contribution += d.Contribution[i]
-		if d.Factored {
-			p.Factor += d.FactorPart[i]
-			p.Specific += d.SpecificPart[i]
-		}
-	}
-	vars := d.groupVariances(gr)
+	vars := d.groupSums(gs, gr)
 	for g := range gs {
 		p := &gs[g]
 		p.Percent = 100 * p.Contribution * inv
@@ -129,36 +159,50 @@ func (d *Decomposition) GroupsTo(dst []Group, gr *Grouping) []Group {
 	return gs
 }
 
-// groupVariances returns a_gᵀΣa_g for each group g.
-func (d *Decomposition) groupVariances(gr *Grouping) []float64 {
+// groupSums sets each group's ActiveWeight, Contribution, Factor and
+// Specific (sums over its members in increasing asset order, in registers
+// rather than through the Group structs) and returns a_gᵀΣa_g for each
+// group g, in one pass over the members in factor form.
+func (d *Decomposition) groupSums(gs []Group, gr *Grouping) []float64 {
 	a := d.an
-	of, ng := gr.of, len(gr.names)
+	n, ng := a.n, len(gr.names)
 	v := make([]float64, ng)
+	act, ct := d.Active[:n], d.Contribution[:n]
 	if a.factored {
 		k := a.k
-		// x_g = Bᵀa_g for every group in one pass over B.
-		xg := make([]float64, ng*k+k)
-		act, bd, sd := d.Active[:len(of)], a.b.Data, a.d[:len(of)]
-		for i, g := range of {
-			ai := act[i]
-			if ai == 0 {
-				continue
-			}
-			row := bd[i*k : (i+1)*k : (i+1)*k]
-			x := xg[g*k : (g+1)*k : (g+1)*k]
-			x = x[:len(row)]
-			for j, bij := range row {
-				x[j] += ai * bij
-			}
-			v[g] += sd[i] * ai * ai
-		}
-		fx := xg[ng*k:]
+		rows := gr.rowsFor(a)
+		// The active weights in member order, then x_g and F·x_g.
+		d.gsc = grow(d.gsc, n+2*k)
+		ag, x, fx := d.gsc[:n], d.gsc[n:n+k], d.gsc[n+k:]
+		sd, fp, spp := a.d[:n], d.FactorPart[:n], d.SpecificPart[:n]
 		for g := range v {
-			x := xg[g*k : (g+1)*k]
+			lo, hi := rows.start[g], rows.start[g+1]
+			var aw, c, f, sp, spec float64
+			for r, i := range rows.order[lo:hi] {
+				ai := act[i]
+				ag[lo+r] = ai
+				aw += ai
+				c += ct[i]
+				f += fp[i]
+				sp += spp[i]
+				spec += sd[i] * ai * ai
+			}
+			p := &gs[g]
+			p.ActiveWeight, p.Contribution, p.Factor, p.Specific = aw, c, f, sp
+			b := blas64.General{Rows: hi - lo, Cols: k, Stride: k, Data: rows.b[lo*k : hi*k]}
+			dense.MulVecT(x, b, ag[lo:hi])
 			gemv(blas.NoTrans, a.f, x, fx)
-			v[g] += max(0, dot(x, fx))
+			v[g] = spec + max(0, dot(x, fx))
 		}
 		return v
+	}
+	for g, m := range gr.members {
+		var aw, c float64
+		for _, i := range m {
+			aw += act[i]
+			c += ct[i]
+		}
+		gs[g].ActiveWeight, gs[g].Contribution = aw, c
 	}
 	for g, m := range gr.members {
 		var s float64

@@ -86,6 +86,9 @@ def main():
     sigma = b @ f @ b.T + np.diag(d)
     v = np.full(N, 1 / N)
     ref("sigmax-dense", median_ms(lambda: sigma @ v, count, reps=2000), "numpy sigma @ x, dense 3000x3000")
+    chol = x.T @ x + 1e-4 * np.eye(N)  # BenchmarkCholesky's matrix at N = 3000
+    ref("cholesky", median_ms(lambda: np.linalg.cholesky(chol), count),
+        "numpy np.linalg.cholesky(X.T @ X + 1e-4 I), bench_numpy.py's X (dpotrf)")
     ref("sigmax-factor", median_ms(lambda: b @ (f @ (b.T @ v)) + d * v, count, reps=2000),
         "numpy b @ (f @ (b.T @ x)) + d * x")
 

@@ -35,11 +35,13 @@ echo "== reference timings (before)" >&2
 echo "== go benchmarks" >&2
 bench dense.txt ./internal/dense '^BenchmarkXtX$/^1000x3000$/^(XtWX-alloc|gonum-Syrk)$' 1x
 bench peak.txt ./internal/dense '^BenchmarkPeak$' 3x
+bench symvec.txt ./internal/dense '^BenchmarkSymVec$/^N=3000$/^SymVec$' 2000x
+bench chol.txt ./internal/dense '^BenchmarkCholesky$/^N=3000$/^factorize$' 3x
 bench ewma.txt ./ewma '^BenchmarkCovariance$/^T=1000$/^N=3000$/^demean=true$/^inplace$' 3x
 bench shrink.txt ./shrink '^Benchmark(LedoitWolf|OAS)$/^N=3000,T=1000$/^inplace$' 3x
 bench implicit.txt ./shrink '^BenchmarkImplicit$/^(LedoitWolf|OAS)$/^N=3000,T=1000$' 3x
 bench fit.txt ./factor '^BenchmarkFit$/^T=1000$/^N=3000$/^K=20$/^missing=false$/^iters=0$/^(auto|pca-randomized)$' 3x
-bench mulvec.txt ./factor '^BenchmarkMulVec$/^(factor|dense)$/^N=3000$' 2000x
+bench mulvec.txt ./factor '^BenchmarkMulVec$/^factor$/^N=3000$' 2000x
 bench te.txt ./te '^BenchmarkDecompose$/^N=3000$/^K=20$/^inplace$' 2000x
 bench read.txt . '^BenchmarkReadReturns$/^(parquet|csv)$/^1000x3000$' 3x
 echo "== reference timings (after)" >&2
