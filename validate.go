@@ -5,10 +5,7 @@ import (
 	"math"
 
 	"github.com/riskmodel/riskmodel/internal/dense"
-	"gonum.org/v1/gonum/blas/blas64"
 	"gonum.org/v1/gonum/mat"
-
-	"github.com/riskmodel/riskmodel/internal/dense"
 )
 
 // DefaultMaxCondition is the condition number above which Validate reports a
