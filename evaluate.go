@@ -15,11 +15,11 @@ import (
 
 // Defaults of EvaluateOptions.
 const (
-	DefaultEvaluateStep       = 21  // rebalance monthly: 21 business days (common practice, no source)
-	DefaultEvaluateWindow     = 252 // one year of daily history
-	DefaultRandomPortfolios   = 100 // random portfolios of each kind
-	DefaultTrackingNames      = 50  // names of the minimum-TE tracking portfolio
-	DefaultEvaluateSeed       = 1   // seed of the random portfolios and of the factor fits
+	DefaultEvaluateStep       = 21            // rebalance monthly: 21 business days (common practice, no source)
+	DefaultEvaluateWindow     = DefaultWindow // the nightly's window: what it publishes is what is measured
+	DefaultRandomPortfolios   = 100           // random portfolios of each kind
+	DefaultTrackingNames      = 50            // names of the minimum-TE tracking portfolio
+	DefaultEvaluateSeed       = 1             // seed of the random portfolios and of the factor fits
 	OracleName                = "oracle"
 	evaluateMinTestPortfolios = 1
 )

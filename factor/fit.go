@@ -129,6 +129,13 @@ func Fit(x mat.Matrix, s Settings) (*Model, error) {
 		lam[i] = v / float64(t)
 	}
 	sel := selectFactors(lam, total/float64(t), n, t, r.kmax)
+	if r.K == 0 && (r.Criterion == HoldoutLikelihood || r.Criterion == HoldoutMinVariance) {
+		h, err := d.holdout(r, sel.MaxFactors)
+		if err != nil {
+			return nil, err
+		}
+		sel.Holdout = &h
+	}
 	info.Selection = &sel
 	k := r.K
 	if k > 0 {
@@ -148,6 +155,9 @@ func Fit(x mat.Matrix, s Settings) (*Model, error) {
 	}
 
 	b, ret := p.v, factorReturns(p)
+	if r.Adjust.Dispersion && k > 0 {
+		ret, info.Dispersion = d.dispersion(r, b, p.sq)
+	}
 	if s.Previous != nil && k > 0 {
 		var al *Alignment
 		b, ret, al, err = align(b, ret, s.Previous, s.PreviousIndex)
@@ -169,6 +179,19 @@ func Fit(x mat.Matrix, s Settings) (*Model, error) {
 		f = &mat.SymDense{}
 		if _, err := ewma.Estimate(f, ret, r.Covariance); err != nil {
 			return nil, fmt.Errorf("factor: factor covariance: %w", err)
+		}
+		if r.Adjust.Eigen {
+			a := r.Adjust.resolved()
+			if f, info.Eigen, err = EigenAdjust(f, f, EigenAdjustSettings{
+				Covariance: r.Covariance, Dates: t, Sims: a.EigenSims, Scale: a.EigenScale, Seed: r.Seed,
+			}); err != nil {
+				return nil, err
+			}
+		}
+	}
+	if r.Adjust.Regime {
+		if err := regime(r, f, spec, ret, resid, &info); err != nil {
+			return nil, err
 		}
 	}
 	return NewModel(b, f, spec, info)

@@ -155,8 +155,8 @@ func parseFlags(args []string, stderr io.Writer) (config, error) {
 	} else {
 		for _, m := range strings.Split(*methods, ",") {
 			m = strings.TrimSpace(m)
-			if !slices.Contains(riskmodel.Methods, m) {
-				return cfg, badInput{fmt.Errorf("-methods: unknown estimator %q (one of %s)", m, strings.Join(riskmodel.Methods, ","))}
+			if _, err := riskmodel.ParseVariant(m); err != nil {
+				return cfg, badInput{fmt.Errorf("-methods: %w (one of %s, optionally with +eigen, +dispersion, +regime, +holdout, +holdout-mv, +k<N>)", err, strings.Join(riskmodel.Methods, ","))}
 			}
 			if slices.Contains(cfg.methods, m) {
 				return cfg, badInput{fmt.Errorf("-methods: %q given twice", m)}
@@ -181,8 +181,10 @@ func findRoot(dir string) (string, error) {
 	}
 }
 
-// needsMetadata reports whether an estimator needs sectors and market caps.
+// needsMetadata reports whether an estimator (or a variant of it) needs
+// sectors and market caps.
 func needsMetadata(m string) bool {
+	m, _, _ = strings.Cut(m, "+")
 	return m == riskmodel.MethodExposure || m == riskmodel.MethodHybrid
 }
 

@@ -38,9 +38,12 @@ func evaluate(cfg config, stdout, stderr io.Writer) error {
 		if needsMetadata(m) && sectors == nil {
 			return badInput{fmt.Errorf("-methods %s needs -assets with sector and market_cap columns", m)}
 		}
-		opts.Methods = append(opts.Methods, riskmodel.EvaluateMethod{Build: riskmodel.BuildOptions{
-			Method: m, Seed: cfg.seed, Sectors: sectors, MarketCaps: caps,
-		}})
+		b, err := riskmodel.ParseVariant(m)
+		if err != nil {
+			return badInput{err}
+		}
+		b.Seed, b.Sectors, b.MarketCaps = cfg.seed, sectors, caps
+		opts.Methods = append(opts.Methods, riskmodel.EvaluateMethod{Name: m, Build: b})
 	}
 	if opts.Benchmark, err = readHoldings(cfg.benchmark); err != nil {
 		return err
