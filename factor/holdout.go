@@ -22,8 +22,13 @@ type Holdout struct {
 	// MinVariance is the realised variance, per period, over the held-out
 	// dates of the minimum-variance portfolio Σ_k⁻¹1/(1ᵀΣ_k⁻¹1).
 	MinVariance []float64
-	// Likelihood and MinVarianceK are the k minimizing Loss and MinVariance.
-	Likelihood, MinVarianceK int
+	// Likelihood and MinVarianceK are the choices of the one-standard-error
+	// rule: the smallest k whose score exceeds the best one by no more than
+	// the standard error of the paired per-date differences (Breiman,
+	// Friedman, Olshen & Stone 1984; Hastie, Tibshirani & Friedman 2009,
+	// Section 7.10). Best and BestMinVariance are the plain minimizers.
+	Likelihood, MinVarianceK        int
+	BestLikelihood, BestMinVariance int
 }
 
 // DefaultHoldoutShare is the share of the window's dates held out when
@@ -97,11 +102,20 @@ func (d *data) holdout(r resolved, kmax int) (Holdout, error) {
 			miss = append(miss, pos)
 		}
 	}
+	// On exactly low-rank data the residuals are rounding noise: keep the
+	// specific variances above 1e-12 of the mean variance, so the held-out
+	// rounding noise does not dominate the likelihood.
+	var level float64
+	for _, v := range fit.RawMatrix().Data {
+		level += v * v
+	}
+	level = 1e-12 * level / float64(t1*n)
 	ones := make([]float64, n)
 	for i := range ones {
 		ones[i] = 1
 	}
 	var base float64
+	var perLoss, perMV [][]float64 // per held-out date, per k
 	for k := 0; k <= kmax; k++ {
 		if k > 0 {
 			u, s := p.u.ColView(k-1), p.s[k-1]
@@ -122,6 +136,9 @@ func (d *data) holdout(r resolved, kmax int) (Holdout, error) {
 		if err != nil {
 			return out, err
 		}
+		for i, v := range spec {
+			spec[i] = math.Max(v, level)
+		}
 		var b *mat.Dense
 		var f *mat.SymDense
 		if k > 0 {
@@ -137,27 +154,59 @@ func (d *data) holdout(r resolved, kmax int) (Holdout, error) {
 		if err != nil {
 			return out, fmt.Errorf("factor: holdout model with %d factors: %w", k, err)
 		}
-		loss, mv := m.holdoutScores(test, ones)
+		pl, pm := m.holdoutScores(test, ones)
+		loss, mv := meanOf(pl), meanOf(pm)
 		if k == 0 {
 			base = loss
 		}
 		out.Loss = append(out.Loss, loss-base)
 		out.MinVariance = append(out.MinVariance, mv)
+		perLoss, perMV = append(perLoss, pl), append(perMV, pm)
 	}
-	out.Likelihood = argmin(out.Loss)
-	out.MinVarianceK = argmin(out.MinVariance)
+	out.BestLikelihood = argmin(out.Loss)
+	out.BestMinVariance = argmin(out.MinVariance)
+	out.Likelihood = oneSE(perLoss, out.BestLikelihood)
+	out.MinVarianceK = oneSE(perMV, out.BestMinVariance)
 	return out, nil
 }
 
-// holdoutScores returns the mean Gaussian negative log-likelihood of the rows
-// of test (up to the constant) and the realised variance of the model's
-// minimum-variance portfolio over them. With Σ = W·Wᵀ + D, W = B·L and the
+// oneSE returns the smallest k ≤ best whose per-date scores exceed those of
+// best by at most one standard error of the mean paired difference.
+func oneSE(per [][]float64, best int) int {
+	h := float64(len(per[best]))
+	for k := 0; k < best; k++ {
+		var s, s2 float64
+		for t, v := range per[k] {
+			d := v - per[best][t]
+			s += d
+			s2 += d * d
+		}
+		m := s / h
+		se := math.Sqrt(math.Max(s2/h-m*m, 0) / (h - 1))
+		if m <= se {
+			return k
+		}
+	}
+	return best
+}
+
+func meanOf(x []float64) float64 {
+	var s float64
+	for _, v := range x {
+		s += v
+	}
+	return s / float64(len(x))
+}
+
+// holdoutScores returns, for each row of test, the Gaussian negative
+// log-likelihood (up to the constant) and the squared return of the model's
+// minimum-variance portfolio. With Σ = W·Wᵀ + D, W = B·L and the
 // Woodbury inner matrix I + WᵀD⁻¹W = C·Cᵀ (Cholesky):
 //
 //	ln det Σ = Σ ln dᵢ + 2·Σ ln C_jj,   rᵀΣ⁻¹r = rᵀD⁻¹r − ‖C⁻¹·WᵀD⁻¹r‖².
 //
 // Cost O(h·N·K + N·K²).
-func (m *Model) holdoutScores(test *mat.Dense, ones []float64) (loss, mv float64) {
+func (m *Model) holdoutScores(test *mat.Dense, ones []float64) (loss, mv []float64) {
 	h, n := test.Dims()
 	logdet := 0.0
 	for _, v := range m.d {
@@ -181,7 +230,7 @@ func (m *Model) holdoutScores(test *mat.Dense, ones []float64) (loss, mv float64
 	for _, v := range w {
 		sw += v
 	}
-	var quad, realised float64
+	loss, mv = make([]float64, h), make([]float64, h)
 	var sol mat.VecDense
 	for t := 0; t < h; t++ {
 		row := test.RawRowView(t)
@@ -196,9 +245,9 @@ func (m *Model) holdoutScores(test *mat.Dense, ones []float64) (loss, mv float64
 				q -= mat.Dot(gt, &sol)
 			}
 		}
-		quad += q
 		pr /= sw
-		realised += pr * pr
+		loss[t] = 0.5 * (logdet + q)
+		mv[t] = pr * pr
 	}
-	return 0.5 * (logdet + quad/float64(h)), realised / float64(h)
+	return loss, mv
 }
