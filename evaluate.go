@@ -131,6 +131,11 @@ type Score struct {
 	FrobeniusLoss, MVLoss   float64
 	FrobeniusPRIAL, MVPRIAL float64
 
+	// TrackingTurnover is the mean one-way turnover ½·Σ|w_q − w_{q−1}| of
+	// the tracking portfolio from one rebalance date to the next (weights
+	// as built, before drift; an asset absent on a date has weight 0).
+	TrackingTurnover float64
+
 	FitSeconds float64 // mean wall-clock seconds of one fit; reported, never ranked
 	// Ridged counts the dates whose dense forecast was singular or had a
 	// condition number above 1e12, so the unconstrained minimum-variance
@@ -370,9 +375,10 @@ type evaluator struct {
 
 // dateResult is everything measured for one rebalance date.
 type dateResult struct {
-	period EvaluatePeriod
-	est    []estimatorDate
-	refRet []float64 // realised returns of the reference portfolio
+	period   EvaluatePeriod
+	est      []estimatorDate
+	refRet   []float64 // realised returns of the reference portfolio
+	universe []string  // the assets of the date, in the order of the weights
 }
 
 // estimatorDate is one estimator's measures on one date: forecasts (per
@@ -383,6 +389,7 @@ type estimatorDate struct {
 	gmv, long, trk []float64 // realised returns (active for trk)
 	gmvZ, longZ    []float64 // returns over forecast volatility
 	trkZ           []float64
+	trkW           []float64   // tracking portfolio weights, over the date's universe
 	randLong       [][]float64 // z of each random long-only portfolio
 	randActive     [][]float64
 	fundZ          []float64
@@ -499,8 +506,9 @@ func (ev *evaluator) date(q, r int) (*dateResult, error) {
 	support := largestNames(bench, o.TrackingNames)
 
 	res := &dateResult{
-		period: EvaluatePeriod{AsOf: asof, First: p.Date(r + 1), Last: p.Date(r + k), Assets: n},
-		refRet: portfolioReturns(test, bench),
+		period:   EvaluatePeriod{AsOf: asof, First: p.Date(r + 1), Last: p.Date(r + k), Assets: n},
+		refRet:   portfolioReturns(test, bench),
+		universe: universe,
 	}
 	ann := math.Sqrt(p.PeriodsPerYear())
 	res.period.ReferenceVol = evalStd(res.refRet) * ann
@@ -557,6 +565,7 @@ func (ev *evaluator) date(q, r int) (*dateResult, error) {
 		if !sr.Converged {
 			ed.notConverged++
 		}
+		ed.trkW = slices.Clone(w)
 		for i := range w {
 			w[i] -= bench[i]
 		}

@@ -15,6 +15,9 @@ import (
 // window and scored on the last Dates dates. Slices run over k = 0..MaxFactors.
 type Holdout struct {
 	Fit, Dates int
+	// Assets is the number of assets scored: those observed on every
+	// held-out date (the likelihood is that of their marginal).
+	Assets int
 	// Loss is the mean Gaussian negative log-likelihood per held-out date,
 	// ½·(ln det Σ_k + r_tᵀ·Σ_k⁻¹·r_t) (the constant ½·N·ln 2π dropped),
 	// minus that of k = 0, so Loss[0] = 0.
@@ -110,7 +113,36 @@ func (d *data) holdout(r resolved, kmax int) (Holdout, error) {
 		level += v * v
 	}
 	level = 1e-12 * level / float64(t1*n)
-	ones := make([]float64, n)
+	// Score only the assets observed on every held-out date: the marginal
+	// of the Gaussian over them is exact, where a mean-imputed cell would
+	// count as a zero return the factors should have explained.
+	gone := make([]bool, n)
+	for _, pos := range d.missing {
+		if pos/n >= t1 {
+			gone[pos%n] = true
+		}
+	}
+	var keep []int
+	for j, g := range gone {
+		if !g {
+			keep = append(keep, j)
+		}
+	}
+	if len(keep) < 2 {
+		return out, fmt.Errorf("%w: %d assets observed on every held-out date", ErrTooFewData, len(keep))
+	}
+	out.Assets = len(keep)
+	if len(keep) < n {
+		sub := mat.NewDense(h, len(keep), nil)
+		for i := 0; i < h; i++ {
+			row, dst := test.RawRowView(i), sub.RawRowView(i)
+			for c, j := range keep {
+				dst[c] = row[j]
+			}
+		}
+		test = sub
+	}
+	ones := make([]float64, len(keep))
 	for i := range ones {
 		ones[i] = 1
 	}
@@ -153,6 +185,9 @@ func (d *data) holdout(r resolved, kmax int) (Holdout, error) {
 		m, err := NewModel(b, f, spec, Info{})
 		if err != nil {
 			return out, fmt.Errorf("factor: holdout model with %d factors: %w", k, err)
+		}
+		if len(keep) < n {
+			m = m.Submodel(keep)
 		}
 		pl, pm := m.holdoutScores(test, ones)
 		loss, mv := meanOf(pl), meanOf(pm)

@@ -82,6 +82,9 @@ Flags:
 	fs.IntVar(&b.Factors, "factors", 0, "number of factors (0: chosen by Bai and Ng's IC_p2)")
 	fs.IntVar(&b.MaxFactors, "max-factors", 0, "largest number of factors the criterion considers (0: package default)")
 	seed := fs.Uint64("seed", 1, "seed of the randomized principal components")
+	fs.StringVar(&b.Criterion, "criterion", "", "factor-count criterion (bai-ng-icp2, holdout-likelihood, holdout-min-variance, ...; empty: bai-ng-icp2)")
+	adjust := fs.String("adjust", "", "comma-separated corrections: eigen, dispersion (factor), regime (every method); empty: none")
+	fs.Float64Var(&b.Adjust.RegimeHalfLife, "regime-half-life", 0, "half-life in dates of the volatility-regime multiplier (0: package default)")
 	fs.StringVar(&cfg.out, "out", defaultStore(), "model store folder (dated model folders and a 'current' link)")
 	fs.StringVar(&cfg.dense, "dense", "", "also write the dense N×N covariance (per period, full precision) to this CSV file")
 	fs.StringVar(&cfg.logFormat, "log-format", "text", "log format on stderr: text or json")
@@ -95,6 +98,15 @@ Flags:
 		return cfg, badInput{err}
 	}
 	b.Seed = *seed
+	if *adjust != "" {
+		v, err := riskmodel.ParseVariant(b.Method + "+" + strings.ReplaceAll(*adjust, ",", "+"))
+		if err != nil {
+			return cfg, badInput{fmt.Errorf("-adjust: %w", err)}
+		}
+		hl := b.Adjust.RegimeHalfLife
+		b.Adjust = v.Adjust
+		b.Adjust.RegimeHalfLife = hl
+	}
 	if fs.NArg() > 0 {
 		return cfg, badInput{fmt.Errorf("unexpected argument %q", fs.Arg(0))}
 	}
