@@ -37,8 +37,9 @@ type Dispersion struct {
 //
 // References:
 // Goldberg, L.R., Papanicolaou, A. and Shkolnik, A. (2022), "The dispersion
-// bias", SIAM J. Financial Mathematics 13(2):521–550 (volume, pages and the
-// formula from memory; checked by simulation in the tests).
+// bias", SIAM J. Financial Mathematics 13(2) (issue from memory; the formula
+// as recalled in the project's references, checked by simulation in the
+// tests).
 func DispersionCorrect(dst, h []float64, lambda2, noise float64) ([]float64, Dispersion) {
 	n := len(h)
 	dst = vecDst(dst, n)

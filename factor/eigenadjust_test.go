@@ -209,3 +209,30 @@ func TestEigenAdjustDeterministic(t *testing.T) {
 	require.Equal(t, orig.RawSymmetric().Data, f.RawSymmetric().Data)
 	require.Panics(t, func() { EigenAdjust(mat.NewSymDense(3, nil), f, s) })
 }
+
+// TestEigenPlainEstimate: the simulations' fast path equals ewma.Estimate of
+// the rotated returns (complete data, zero mean, no lags).
+func TestEigenPlainEstimate(t *testing.T) {
+	f := eigenMarket(3, 7)
+	vals, vecs, err := eigenDesc(f)
+	require.NoError(t, err)
+	s := EigenAdjustSettings{Covariance: ewma.Settings{VolHalfLife: 30, CorrHalfLife: 90}, Dates: 150}
+	rng := rand.New(rand.NewPCG(1, 2))
+	y := mat.NewDense(150, 7, nil)
+	for i := 0; i < 150; i++ {
+		for j := 0; j < 7; j++ {
+			y.Set(i, j, rng.NormFloat64()*math.Sqrt(vals[j]))
+		}
+	}
+	var r mat.Dense
+	r.Mul(y, vecs.T())
+	var want mat.SymDense
+	_, err = ewma.Estimate(&want, &r, s.Covariance)
+	require.NoError(t, err)
+	got := plainEstimate(y, vecs, s)
+	for i := 0; i < 7; i++ {
+		for j := 0; j < 7; j++ {
+			require.InEpsilon(t, want.At(i, j), got.At(i, j), 1e-10)
+		}
+	}
+}

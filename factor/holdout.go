@@ -151,11 +151,12 @@ func (d *data) holdout(r resolved, kmax int) (Holdout, error) {
 	for k := 0; k <= kmax; k++ {
 		if k > 0 {
 			u, s := p.u.ColView(k-1), p.s[k-1]
+			vk := mat.Col(nil, k-1, p.v)
 			for i := 0; i < t1; i++ {
 				row := resid.RawRowView(i)
 				c := u.AtVec(i) * s
-				for j := range row {
-					row[j] -= c * p.v.At(j, k-1)
+				for j, v := range vk {
+					row[j] -= c * v
 				}
 			}
 		}

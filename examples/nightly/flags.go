@@ -82,8 +82,8 @@ Flags:
 	fs.IntVar(&b.Factors, "factors", 0, "number of factors (0: chosen by Bai and Ng's IC_p2)")
 	fs.IntVar(&b.MaxFactors, "max-factors", 0, "largest number of factors the criterion considers (0: package default)")
 	seed := fs.Uint64("seed", 1, "seed of the randomized principal components")
-	fs.StringVar(&b.Criterion, "criterion", "", "factor-count criterion (bai-ng-icp2, holdout-likelihood, holdout-min-variance, ...; empty: bai-ng-icp2)")
-	adjust := fs.String("adjust", "", "comma-separated corrections: eigen, dispersion (factor), regime (every method); empty: none")
+	fs.StringVar(&b.Criterion, "criterion", defaultCriterion, "factor-count criterion: bai-ng-icp2, bai-ng-icp1, ahn-horenstein-er, ahn-horenstein-gr, onatski-ed, marchenko-pastur, holdout-likelihood, holdout-min-variance")
+	adjust := fs.String("adjust", "default", "comma-separated corrections: eigen, dispersion (factor), regime (every method); none for no correction; default: "+defaultFactorAdjust+" for factor, none for the others")
 	fs.Float64Var(&b.Adjust.RegimeHalfLife, "regime-half-life", 0, "half-life in dates of the volatility-regime multiplier (0: package default)")
 	fs.StringVar(&cfg.out, "out", defaultStore(), "model store folder (dated model folders and a 'current' link)")
 	fs.StringVar(&cfg.dense, "dense", "", "also write the dense N×N covariance (per period, full precision) to this CSV file")
@@ -98,7 +98,13 @@ Flags:
 		return cfg, badInput{err}
 	}
 	b.Seed = *seed
-	if *adjust != "" {
+	if *adjust == "default" {
+		*adjust = defaultDenseAdjust
+		if b.Method == riskmodel.MethodFactor {
+			*adjust = defaultFactorAdjust
+		}
+	}
+	if *adjust != "" && *adjust != "none" {
 		v, err := riskmodel.ParseVariant(b.Method + "+" + strings.ReplaceAll(*adjust, ",", "+"))
 		if err != nil {
 			return cfg, badInput{fmt.Errorf("-adjust: %w", err)}
@@ -115,6 +121,15 @@ Flags:
 	}
 	return cfg, cfg.defaults()
 }
+
+// The nightly's defaults: the combination that forecast best in
+// examples/evaluate on the demo and on simulated markets of other shapes
+// (README, "Risk of optimized portfolios").
+const (
+	defaultCriterion    = "holdout-likelihood"
+	defaultFactorAdjust = "dispersion"
+	defaultDenseAdjust  = "" // the dense methods stay the published estimators
+)
 
 // check validates the flags that need no file.
 func (cfg *config) check(asof string) error {
