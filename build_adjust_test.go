@@ -91,3 +91,21 @@ func TestBuildIdenticalAssets(t *testing.T) {
 	a[0], a[1] = 1, -1
 	require.Less(t, math.Sqrt(252*m.Factor.QuadForm(a)), 1e-6)
 }
+
+// TestAdjustedModelRoundTrip: a model with every correction survives the
+// store bit for bit, its corrections' records included.
+func TestAdjustedModelRoundTrip(t *testing.T) {
+	p := smallDemo(t).Panel
+	tt, _ := p.Dims()
+	o, err := ParseVariant("factor+holdout+eigen+dispersion+regime+k4")
+	require.NoError(t, err)
+	o.Window = 300
+	m, _, err := Build(p, p.Date(tt-1), &o)
+	require.NoError(t, err)
+	dir := t.TempDir() + "/model"
+	require.NoError(t, SaveModel(dir, m))
+	back, err := LoadModel(dir)
+	require.NoError(t, err)
+	require.True(t, m.equal(back))
+	require.Equal(t, m.Factor.Info(), back.Factor.Info())
+}

@@ -3,6 +3,7 @@ package factor
 import (
 	"math"
 	"math/rand/v2"
+	"runtime"
 	"testing"
 
 	"github.com/stretchr/testify/require"
@@ -131,4 +132,26 @@ func TestExactlyLowRank(t *testing.T) {
 		t.Logf("%s: K = %d, TE between identical names %.2g", c, m.NumFactors(), te)
 		require.Less(t, te, 1e-4)
 	}
+}
+
+// TestAdjustedFitDeterministic: the held-out choice and every correction
+// give bit-identical models whatever GOMAXPROCS.
+func TestAdjustedFitDeterministic(t *testing.T) {
+	sim := heteroMarket(3, 300, 120, 6)
+	s := baseSettings()
+	s.Criterion = HoldoutLikelihood
+	s.Adjust = Adjustments{Dispersion: true, Eigen: true, EigenSims: 40, Regime: true}
+	prev := runtime.GOMAXPROCS(1)
+	a, err := Fit(sim.x, s)
+	runtime.GOMAXPROCS(prev)
+	require.NoError(t, err)
+	b, err := Fit(sim.x, s)
+	require.NoError(t, err)
+	require.Equal(t, a.CovarianceTo(nil).RawSymmetric().Data, b.CovarianceTo(nil).RawSymmetric().Data)
+	require.Equal(t, a.Info(), b.Info())
+	in := a.Info()
+	require.InDelta(t, 6, a.NumFactors(), 1) // the weakest of 6 factors is borderline at N = 120
+	require.Equal(t, 40, in.Params.Adjust.EigenSims)
+	require.Equal(t, DefaultRegimeHalfLife, in.Params.Adjust.RegimeHalfLife)
+	require.Len(t, in.FactorRegime.History, len(in.FactorRegime.Bias))
 }
