@@ -152,6 +152,6 @@ func TestAdjustedFitDeterministic(t *testing.T) {
 	in := a.Info()
 	require.InDelta(t, 6, a.NumFactors(), 1) // the weakest of 6 factors is borderline at N = 120
 	require.Equal(t, 40, in.Params.Adjust.EigenSims)
-	require.Equal(t, DefaultRegimeHalfLife, in.Params.Adjust.RegimeHalfLife)
+	require.Equal(t, float64(DefaultRegimeHalfLife), in.Params.Adjust.RegimeHalfLife)
 	require.Len(t, in.FactorRegime.History, len(in.FactorRegime.Bias))
 }
