@@ -5,6 +5,8 @@ import (
 	"math"
 
 	"gonum.org/v1/gonum/mat"
+
+	"github.com/riskmodel/riskmodel/internal/dense"
 )
 
 // Adjustments switch on Fit's corrections of the estimate for the risk of
@@ -83,8 +85,7 @@ func (d *data) dispersion(r resolved, b *mat.Dense, sq []float64) (*mat.Dense, *
 		noise = math.Max(top, 0) / float64(rank-k)
 	}
 	rep := correctDispersion(b, sq[0]/float64(t), noise)
-	ret := mat.NewDense(t, k, nil)
-	ret.Mul(d.z, b)
+	ret := dense.Mul(nil, d.z, b)
 	return ret, &rep
 }
 

@@ -13,11 +13,13 @@ import (
 
 // Defaults of EigenAdjustSettings.
 const (
-	// DefaultEigenSims is the number of simulated histories M. At M = 200
-	// the Monte Carlo standard error of the bias v(k) is about 0.4 % of
+	// DefaultEigenSims is the number of simulated histories M. At M = 100
+	// the Monte Carlo standard error of the bias v(k) is about 0.55 % of
 	// v(k) (K = 6, T = 252, half-lives 63 and 126: 0.085 % at M = 4000 in
-	// TestEigenAdjustFixture, times √20).
-	DefaultEigenSims = 200
+	// TestEigenAdjustFixture, times √40), small beside the bias itself
+	// (2 % to 20 % at K = 20), and the simulations stay within a quarter of
+	// the cost of the factor build at 3000 × 1000 (BenchmarkAdjust).
+	DefaultEigenSims = 100
 	// DefaultEigenScale is the scaling parameter a of γ(k) = a·(v(k) − 1) + 1.
 	// Menchero, Wang & Orr (2011) fit a above 1 on real equity factor
 	// returns (about 1.2–1.5 from memory; 1.4 taken here). A simulation
@@ -96,9 +98,8 @@ func (a *EigenAdjustment) clone() *EigenAdjustment {
 // simulation computes the estimate in the eigenbasis (plainEstimate, equal
 // to ewma.Estimate to rounding); otherwise it calls ewma.Estimate.
 //
-// Cost O(M·(T·K² + K³)): at K = 20, T = 1000 and M = 200 about 0.2 s on
-// a loaded 2-core machine (BenchmarkEigenAdjust). The simulations run on
-// all cores.
+// Cost O(M·(T·K² + K³)): at K = 20, T = 1000 and M = 100 about 0.05 s on
+// two cores (BenchmarkEigenAdjust). The simulations run on all cores.
 //
 // References:
 // Menchero, J., Wang, J. and Orr, D.J. (2011), "Eigen-adjusted covariance

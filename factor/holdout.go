@@ -7,6 +7,7 @@ import (
 	"gonum.org/v1/gonum/mat"
 
 	"github.com/riskmodel/riskmodel/ewma"
+	"github.com/riskmodel/riskmodel/internal/dense"
 )
 
 // Holdout holds the forecast-accuracy scores of the candidate numbers of
@@ -258,8 +259,7 @@ func (m *Model) holdoutScores(test *mat.Dense, ones []float64) (loss, mv []float
 				dst[j] = v / m.d[i]
 			}
 		}
-		g = mat.NewDense(h, m.k, nil)
-		g.Mul(test, scaled)
+		g = dense.Mul(nil, test, scaled)
 	}
 	w := m.SolveVecTo(nil, ones)
 	var sw float64
