@@ -45,7 +45,14 @@ import (
 // specific variances use observed cells only.
 //
 // Number of factors: K if given, else the Criterion over k = 0..MaxFactors;
-// all criteria are reported in Info.Selection (see Selection).
+// all criteria are reported in Info.Selection (see Selection). The holdout
+// criteria also refit on the first dates and score the last HoldoutDates
+// (see Holdout). MaxFactors is capped at the data's numerical rank, so
+// exactly low-rank data can choose all of their factors.
+//
+// Corrections (Settings.Adjust, see Adjustments): the dispersion-corrected
+// leading eigenvector, the eigen-adjusted F and the volatility-regime
+// multipliers of F and D, each reported in Info.
 //
 // Specific variances: d̂_i is the exponentially weighted variance of asset
 // i's residuals around zero (ewma.VariancesTo, half-life SpecificHalfLife,
@@ -75,7 +82,8 @@ import (
 // K ≥ min(N, T) or K above the rank of the data, ErrNonFinite for an Inf
 // (naming date and asset), ErrNoObservations for an asset with fewer than 2
 // observations, ErrEmptyDate for a date with none, ErrPrevious for a previous
-// model that does not fit, and errors of package ewma.
+// model that does not fit, ErrSettings or ErrTooFewData for a holdout or a
+// regime burn-in the window is too short for, and errors of package ewma.
 //
 // Cost: O(T·N·l·(2·PowerIters + 2)) for the randomized SVD with
 // l = max(K, MaxFactors + 5) + Oversample, plus O(T·N·(K + Oversample)) per
