@@ -75,8 +75,15 @@ type BuildOptions struct {
 
 	// Factors fixes the number of factors; 0 chooses it by Bai & Ng's IC_p2.
 	Factors    int
-	MaxFactors int    // the largest number the criteria consider; 0: package factor's default
-	Seed       uint64 // seed of the randomized principal components
+	MaxFactors int // the largest number the criteria consider; 0: package factor's default
+	// Criterion names the factor-count criterion (factor.Criterion's
+	// String, e.g. "holdout-likelihood"); "" means Bai & Ng's IC_p2.
+	Criterion string
+	// Adjust switches on the corrections for optimized portfolios and
+	// volatility regimes (see factor.Adjustments); only Regime and
+	// RegimeHalfLife apply to the dense methods (see ParseVariant).
+	Adjust factor.Adjustments
+	Seed   uint64 // seed of the randomized principal components
 	// Groups maps an asset to its group (sector, size bucket) for the
 	// shrinkage of the factor model's specific variances; nil: one group.
 	Groups map[string]string
@@ -110,6 +117,10 @@ type BuildReport struct {
 	// a missing sector or market cap.
 	Unclassified []string
 	Notes        []string // the same facts as the model's Notes
+	// Regime is the volatility-regime multiplier of a dense estimate and
+	// its history; nil unless Adjust.Regime (factor models report theirs
+	// in their Info).
+	Regime *factor.Regime
 }
 
 // DefaultMinObs is Build's default for BuildOptions.MinObs on a window of
@@ -186,6 +197,7 @@ func Build(p *Panel, asof Date, opts *BuildOptions) (*Model, *BuildReport, error
 	}
 	recordWindow(m, rep, o.Window)
 	recordGroups(m, o)
+	o.adjustSettings(m.Settings)
 	switch o.Method {
 	case MethodFactor:
 		err = buildFactor(m, win, o, rep)
@@ -195,6 +207,9 @@ func Build(p *Panel, asof Date, opts *BuildOptions) (*Model, *BuildReport, error
 		err = buildExposure(m, win, o, rep)
 	default:
 		err = buildShrink(m, win, o, rep)
+	}
+	if err == nil {
+		err = adjustDense(m, win, o, rep)
 	}
 	if err != nil {
 		return nil, nil, fmt.Errorf("riskmodel: build %s: %w", o.Method, err)
@@ -268,6 +283,11 @@ func buildFactor(m *Model, win *Panel, o BuildOptions, rep *BuildReport) error {
 		Covariance:       ewma.Settings{VolHalfLife: o.VolHalfLife, CorrHalfLife: o.CorrHalfLife, NeweyWestLags: o.NeweyWestLags},
 		SpecificHalfLife: o.SpecificHalfLife,
 		Assets:           m.Assets,
+		Adjust:           o.Adjust,
+	}
+	var err error
+	if s.Criterion, err = o.criterion(); err != nil {
+		return err
 	}
 	if o.Groups != nil {
 		s.Groups = make([]string, len(m.Assets))
@@ -307,6 +327,7 @@ func buildFactor(m *Model, win *Panel, o BuildOptions, rep *BuildReport) error {
 	if sp := info.Specific; sp.Floored > 0 {
 		rep.Notes = append(rep.Notes, fmt.Sprintf("%d specific variances raised to the floor %.3g", sp.Floored, sp.Floor))
 	}
+	factorAdjustNotes(info, rep)
 	m.Factor = f
 	return nil
 }

@@ -22,6 +22,16 @@
 // (orthogonal Procrustes) and the movement of the factor space is reported as
 // principal angles.
 //
+// Settings.Adjust switches on corrections for the portfolios an optimizer
+// builds and for volatility regimes, each reported in Info: the
+// eigen-adjusted factor covariance (EigenAdjust; Menchero, Wang & Orr 2011),
+// the dispersion-bias correction of the leading eigenvector
+// (DispersionCorrect; Goldberg, Papanicolaou & Shkolnik 2022) and the
+// volatility-regime multipliers of F and D (VolatilityRegime). The criteria
+// HoldoutLikelihood and HoldoutMinVariance choose K by how well each
+// candidate forecasts the last quarter of the window after a fit on the rest
+// (Holdout).
+//
 // A Model is immutable once built and safe for concurrent use by many
 // goroutines. NewModel rebuilds a model from its parts, so a store can save
 // and load one bit-identically; package factor itself writes no files.

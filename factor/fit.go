@@ -42,7 +42,14 @@ import (
 // specific variances use observed cells only.
 //
 // Number of factors: K if given, else the Criterion over k = 0..MaxFactors;
-// all criteria are reported in Info.Selection (see Selection).
+// all criteria are reported in Info.Selection (see Selection). The holdout
+// criteria also refit on the first dates and score the last HoldoutDates
+// (see Holdout). MaxFactors is capped at the data's numerical rank, so
+// exactly low-rank data can choose all of their factors.
+//
+// Corrections (Settings.Adjust, see Adjustments): the dispersion-corrected
+// leading eigenvector, the eigen-adjusted F and the volatility-regime
+// multipliers of F and D, each reported in Info.
 //
 // Specific variances: d̂_i is the exponentially weighted variance of asset
 // i's residuals around zero (ewma.Variances, half-life SpecificHalfLife,
@@ -74,7 +81,8 @@ import (
 // K ≥ min(N, T) or K above the rank of the data, ErrNonFinite for an Inf
 // (naming date and asset), ErrNoObservations for an asset with fewer than 2
 // observations, ErrEmptyDate for a date with none, ErrPrevious for a previous
-// model that does not fit, and errors of package ewma.
+// model that does not fit, ErrSettings or ErrTooFewObs for a holdout or a
+// regime burn-in the window is too short for, and errors of package ewma.
 //
 // Cost: O(T·N·l·(2·PowerIters + 2)) for the randomized SVD with
 // l = max(K, MaxFactors + 5) + Oversample, plus O(T·N·(K + Oversample)) per
@@ -128,6 +136,13 @@ func Fit(x mat.Matrix, s Settings) (*Model, error) {
 		lam[i] = v / float64(t)
 	}
 	sel := selectFactors(lam, total/float64(t), n, t, r.kmax)
+	if r.K == 0 && (r.Criterion == HoldoutLikelihood || r.Criterion == HoldoutMinVariance) {
+		h, err := d.holdout(r, sel.MaxFactors)
+		if err != nil {
+			return nil, err
+		}
+		sel.Holdout = &h
+	}
 	info.Selection = &sel
 	k := r.K
 	if k > 0 {
@@ -150,11 +165,23 @@ func Fit(x mat.Matrix, s Settings) (*Model, error) {
 	// last and only re-expresses the result, so Σ does not depend on whether
 	// a previous model was given.
 	b, ret := p.v, factorReturns(p)
+	if r.Adjust.Dispersion && k > 0 {
+		ret, info.Dispersion = d.dispersion(r, b, p.sq)
+	}
 	var f *mat.SymDense
 	if k > 0 {
 		f = &mat.SymDense{}
 		if _, _, err := ewma.Estimate(f, ret, r.Covariance); err != nil {
 			return nil, fmt.Errorf("factor: factor covariance: %w", err)
+		}
+		if r.Adjust.Eigen {
+			a := r.Adjust.resolved()
+			var err error
+			if f, info.Eigen, err = EigenAdjust(f, f, EigenAdjustSettings{
+				Covariance: r.Covariance, Dates: t, Sims: a.EigenSims, Scale: a.EigenScale, Seed: r.Seed,
+			}); err != nil {
+				return nil, err
+			}
 		}
 	}
 
@@ -164,6 +191,11 @@ func Fit(x mat.Matrix, s Settings) (*Model, error) {
 		return nil, err
 	}
 	info.Specific = sp
+	if r.Adjust.Regime {
+		if err := regime(r, f, spec, ret, resid, &info); err != nil {
+			return nil, err
+		}
+	}
 
 	if s.Previous != nil && k > 0 {
 		var al *Alignment

@@ -43,6 +43,14 @@ type Info struct {
 	// Alignment reports the rotation onto the previous model; nil when no
 	// previous model was given.
 	Alignment *Alignment
+
+	// The corrections of Settings.Adjust, nil when not applied: the
+	// dispersion bias of the leading eigenvector, the eigen-adjustment of F
+	// and the volatility-regime multipliers of F and D.
+	Dispersion     *Dispersion
+	Eigen          *EigenAdjustment
+	FactorRegime   *Regime
+	SpecificRegime *Regime
 }
 
 // Params are the fitting parameters recorded in Info, with defaults resolved.
@@ -62,6 +70,8 @@ type Params struct {
 	SpecificShrink   float64 // the requested intensity; 0 means estimated
 	NoSpecificShrink bool
 	SpecificFloor    float64 // the requested floor; 0 means the default rule
+	HoldoutDates     int     // the requested holdout; 0 means the default share
+	Adjust           Adjustments
 }
 
 // Imputation reports how missing returns were filled (see Fit).
@@ -108,5 +118,12 @@ func (in Info) clone() Info {
 		a.Rotation = slices.Clone(a.Rotation)
 		out.Alignment = &a
 	}
+	if in.Dispersion != nil {
+		d := *in.Dispersion
+		out.Dispersion = &d
+	}
+	out.Eigen = in.Eigen.clone()
+	out.FactorRegime = in.FactorRegime.clone()
+	out.SpecificRegime = in.SpecificRegime.clone()
 	return out
 }

@@ -22,9 +22,16 @@ const (
 	Onatski
 	// MarchenkoPastur counts eigenvalues above the Marchenko–Pastur edge.
 	MarchenkoPastur
+	// HoldoutLikelihood minimizes the Gaussian negative log-likelihood of
+	// the held-out last dates of the window under each k-factor model
+	// fitted on the dates before them (see Holdout).
+	HoldoutLikelihood
+	// HoldoutMinVariance minimizes the held-out realised variance of each
+	// k-factor model's minimum-variance portfolio (see Holdout).
+	HoldoutMinVariance
 )
 
-var criterionNames = [...]string{"bai-ng-icp2", "bai-ng-icp1", "ahn-horenstein-er", "ahn-horenstein-gr", "onatski-ed", "marchenko-pastur"}
+var criterionNames = [...]string{"bai-ng-icp2", "bai-ng-icp1", "ahn-horenstein-er", "ahn-horenstein-gr", "onatski-ed", "marchenko-pastur", "holdout-likelihood", "holdout-min-variance"}
 
 // String returns the criterion's name as recorded in Params.
 func (c Criterion) String() string {
@@ -62,6 +69,9 @@ type Selection struct {
 	NoiseVariance, Edge float64
 	// The number of factors each criterion gives.
 	BaiNgP1, BaiNgP2, AhnHorensteinER, AhnHorensteinGR, OnatskiED, MarchenkoPastur int
+	// Holdout holds the forecast-accuracy scores; nil unless a holdout
+	// criterion was asked for.
+	Holdout *Holdout
 }
 
 func (s Selection) clone() Selection {
@@ -72,6 +82,12 @@ func (s Selection) clone() Selection {
 	out.ICp2 = slices.Clone(s.ICp2)
 	out.ER = slices.Clone(s.ER)
 	out.GR = slices.Clone(s.GR)
+	if s.Holdout != nil {
+		h := *s.Holdout
+		h.Loss = slices.Clone(h.Loss)
+		h.MinVariance = slices.Clone(h.MinVariance)
+		out.Holdout = &h
+	}
 	return out
 }
 
@@ -88,24 +104,33 @@ func (s *Selection) chosen(c Criterion) int {
 		return s.OnatskiED
 	case MarchenkoPastur:
 		return s.MarchenkoPastur
+	case HoldoutLikelihood, HoldoutMinVariance:
+		if s.Holdout == nil {
+			return s.BaiNgP2
+		}
+		if c == HoldoutLikelihood {
+			return s.Holdout.Likelihood
+		}
+		return s.Holdout.MinVarianceK
 	}
 	return s.BaiNgP2
 }
 
 // selectFactors computes every criterion from the descending eigenvalues lam
 // of S (at least kmax+5 of them, or all), their sum total, and the panel size.
-// kmax is lowered so that λ_{kmax+1} > 0. Cost O(kmax²).
+// kmax is lowered to the numerical rank (eigenvalues above 1e-10·λ_1), so that
+// exactly low-rank data can choose all their factors. Cost O(kmax²).
 func selectFactors(lam []float64, total float64, n, t, kmax int) Selection {
 	p := kmax + 5
 	ev := make([]float64, p)
 	copy(ev, lam)
 	positive := 0
 	for _, v := range ev {
-		if v > 1e-13*ev[0] {
+		if v > 1e-10*ev[0] {
 			positive++
 		}
 	}
-	kmax = max(0, min(kmax, positive-1))
+	kmax = max(0, min(kmax, positive))
 	s := Selection{MaxFactors: kmax, Eigenvalues: ev, Total: total}
 	nf, tf := float64(n), float64(t)
 	pen := (nf + tf) / (nf * tf)

@@ -56,6 +56,10 @@ type Settings struct {
 	K int
 	// Criterion chooses K when K is 0; the zero value is BaiNgICp2.
 	Criterion Criterion
+	// HoldoutDates is the number of last dates held out by the criteria
+	// HoldoutLikelihood and HoldoutMinVariance; 0 means DefaultHoldoutShare
+	// of the dates.
+	HoldoutDates int
 	// MaxFactors is the largest k the criteria consider; 0 means K when K is
 	// given, otherwise min(20, min(N, T) − 1).
 	MaxFactors int
@@ -102,6 +106,10 @@ type Settings struct {
 	// PreviousIndex gives, for each asset, its position in Previous or −1
 	// if it is new; nil means the same assets in the same order.
 	PreviousIndex []int
+
+	// Adjust switches on the corrections of the estimate for optimized
+	// portfolios and volatility regimes; the zero value applies none.
+	Adjust Adjustments
 }
 
 // resolved holds the settings with defaults filled in.
@@ -121,12 +129,12 @@ func (s Settings) resolve(t, n int) (resolved, error) {
 		return bad("K = %d is negative", s.K)
 	case s.K >= m:
 		return r, fmt.Errorf("%w: K = %d ≥ min(N, T) = %d", ErrTooManyFactors, s.K, m)
-	case s.Criterion < BaiNgICp2 || s.Criterion > MarchenkoPastur:
+	case s.Criterion < BaiNgICp2 || s.Criterion > HoldoutMinVariance:
 		return bad("unknown criterion %d", int(s.Criterion))
 	case s.Solver < SolverAuto || s.Solver > SolverGram:
 		return bad("unknown solver %d", int(s.Solver))
-	case s.MaxFactors < 0 || s.Oversample < 0 || s.PowerIters < 0 || s.MaxIter < 0:
-		return bad("MaxFactors, Oversample, PowerIters and MaxIter must be ≥ 0")
+	case s.MaxFactors < 0 || s.Oversample < 0 || s.PowerIters < 0 || s.MaxIter < 0 || s.HoldoutDates < 0:
+		return bad("MaxFactors, Oversample, PowerIters, MaxIter and HoldoutDates must be ≥ 0")
 	case !(s.Tol >= 0) || math.IsInf(s.Tol, 0):
 		return bad("Tol = %v", s.Tol)
 	case !(s.SpecificHalfLife > 0) || math.IsInf(s.SpecificHalfLife, 0):
@@ -138,6 +146,9 @@ func (s Settings) resolve(t, n int) (resolved, error) {
 		return bad("SpecificShrink = %v outside [0, 1]", s.SpecificShrink)
 	case !(s.SpecificFloor >= 0) || math.IsInf(s.SpecificFloor, 0):
 		return bad("SpecificFloor = %v", s.SpecificFloor)
+	}
+	if err := s.Adjust.validate(); err != nil {
+		return r, err
 	}
 	if s.Solver == SolverAuto {
 		r.Solver = SolverRandomized
@@ -176,5 +187,6 @@ func (r resolved) params() Params {
 		CorrHalfLife: r.Covariance.CorrHalfLife, NeweyWestLags: r.Covariance.NeweyWestLags,
 		SpecificHalfLife: r.SpecificHalfLife, SpecificShrink: r.SpecificShrink,
 		NoSpecificShrink: r.NoSpecificShrink, SpecificFloor: r.SpecificFloor,
+		HoldoutDates: r.HoldoutDates, Adjust: r.Adjust.resolved(),
 	}
 }

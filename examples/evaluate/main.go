@@ -55,6 +55,7 @@ type config struct {
 	format, chart            string
 	truth                    bool
 	workers                  int
+	sim                      string // a simulated market instead of files: -sim key=value,...
 }
 
 // badInput marks an error caused by the user's flags or files.
@@ -106,6 +107,7 @@ func parseFlags(args []string, stderr io.Writer) (config, error) {
 	fs.StringVar(&cfg.chart, "chart", "", "write an SVG chart of forecast against realised risk to this file")
 	fs.BoolVar(&cfg.truth, "truth", true, "with the demo's returns, add its true covariance as the oracle and the losses against it")
 	fs.IntVar(&cfg.workers, "workers", 0, "rebalance dates processed at once (default the number of cores)")
+	fs.StringVar(&cfg.sim, "sim", "", "evaluate on a simulated market with its truth instead of files: comma-separated seed=, assets=, sectors=, dates=, stress-start=, stress-length= of the demo generator (e.g. sectors=25,assets=800)")
 	if err := fs.Parse(args); err != nil {
 		if errors.Is(err, flag.ErrHelp) {
 			return cfg, err
@@ -129,7 +131,13 @@ func parseFlags(args []string, stderr io.Writer) (config, error) {
 	if cfg.portfolios < 0 || cfg.tracking < 1 || cfg.workers < 0 {
 		return cfg, badInput{errors.New("-portfolios and -workers must not be negative, -tracking-names must be positive")}
 	}
-	if cfg.returns == "" {
+	if cfg.sim != "" {
+		if _, err := simConfig(cfg.sim); err != nil {
+			return cfg, badInput{err}
+		}
+		cfg.benchmark, cfg.fund, cfg.assets = "none", "none", "none"
+	}
+	if cfg.returns == "" && cfg.sim == "" {
 		wd, err := os.Getwd()
 		if err != nil {
 			return cfg, err
@@ -157,8 +165,8 @@ func parseFlags(args []string, stderr io.Writer) (config, error) {
 	} else {
 		for _, m := range strings.Split(*methods, ",") {
 			m = strings.TrimSpace(m)
-			if !slices.Contains(riskmodel.Methods, m) {
-				return cfg, badInput{fmt.Errorf("-methods: unknown estimator %q (one of %s)", m, strings.Join(riskmodel.Methods, ","))}
+			if _, err := riskmodel.ParseVariant(m); err != nil {
+				return cfg, badInput{fmt.Errorf("-methods: unknown estimator: %w (one of %s, optionally with +eigen, +dispersion, +regime, +holdout, +holdout-mv, +k<N>)", err, strings.Join(riskmodel.Methods, ","))}
 			}
 			if slices.Contains(cfg.methods, m) {
 				return cfg, badInput{fmt.Errorf("-methods: %q given twice", m)}
@@ -183,8 +191,10 @@ func findRoot(dir string) (string, error) {
 	}
 }
 
-// needsMetadata reports whether an estimator needs sectors and market caps.
+// needsMetadata reports whether an estimator (or a variant of it) needs
+// sectors and market caps.
 func needsMetadata(m string) bool {
+	m, _, _ = strings.Cut(m, "+")
 	return m == riskmodel.MethodExposure || m == riskmodel.MethodHybrid
 }
 

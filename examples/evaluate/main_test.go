@@ -80,5 +80,5 @@ func TestDefaultDemo(t *testing.T) {
 	require.Contains(t, text, "oracle")
 	require.Contains(t, text, "Use ")
 	require.Contains(t, text, "Caution: Forecasts are statistical estimates")
-	require.Contains(t, text, "3 rebalance dates")
+	require.Contains(t, text, "2 rebalance dates") // window 504, the nightly's
 }

@@ -5,6 +5,10 @@ import (
 	"io"
 	"math"
 	"os"
+	"strconv"
+	"strings"
+
+	"gonum.org/v1/gonum/mat"
 
 	"github.com/riskmodel/riskmodel/internal/demo"
 	"github.com/riskmodel/riskmodel/internal/evaluate"
@@ -14,8 +18,17 @@ import (
 
 // runEvaluation reads the inputs, runs the evaluation and writes the results.
 func runEvaluation(cfg config, stdout, stderr io.Writer) error {
-	panel, err := riskmodel.ReadReturns(cfg.returns, nil)
-	if err != nil {
+	var panel *riskmodel.Panel
+	var simTruth func(*mat.SymDense, int) *mat.SymDense
+	var err error
+	if cfg.sim != "" {
+		c, _ := simConfig(cfg.sim)
+		d, err := demo.Generate(&c)
+		if err != nil {
+			return badInput{err}
+		}
+		panel, simTruth = d.Panel, d.TrueCovarianceTo
+	} else if panel, err = riskmodel.ReadReturns(cfg.returns, nil); err != nil {
 		return badInput{err}
 	}
 	opts := &evaluate.Options{
@@ -41,15 +54,21 @@ func runEvaluation(cfg config, stdout, stderr io.Writer) error {
 		if needsMetadata(m) && sectors == nil {
 			return badInput{fmt.Errorf("-methods %s needs -assets with sector and market_cap columns", m)}
 		}
-		opts.Methods = append(opts.Methods, evaluate.Estimator{Build: riskmodel.BuildOptions{
-			Method: m, Seed: cfg.seed, Sectors: sectors, MarketCaps: caps,
-		}})
+		b, err := riskmodel.ParseVariant(m)
+		if err != nil {
+			return badInput{err}
+		}
+		b.Seed, b.Sectors, b.MarketCaps = cfg.seed, sectors, caps
+		opts.Methods = append(opts.Methods, evaluate.Estimator{Name: m, Build: b})
 	}
 	if opts.Benchmark, err = readHoldings(cfg.benchmark); err != nil {
 		return err
 	}
 	if opts.Fund, err = readHoldings(cfg.fund); err != nil {
 		return err
+	}
+	if simTruth != nil && cfg.truth {
+		opts.Truth = simTruth
 	}
 	if cfg.demo && cfg.truth {
 		// The bundled files are demo.Generate(nil) written out; draw it again
@@ -154,4 +173,34 @@ func samePanel(a, b *riskmodel.Panel) bool {
 func onTerminal() bool {
 	fi, err := os.Stderr.Stat()
 	return err == nil && fi.Mode()&os.ModeCharDevice != 0
+}
+
+// simConfig parses -sim: key=value pairs of the demo generator's
+// configuration; the seed defaults to 1, every other field to the demo's.
+func simConfig(spec string) (demo.Config, error) {
+	c := demo.Config{Seed: 1}
+	for _, kv := range strings.Split(spec, ",") {
+		k, v, ok := strings.Cut(strings.TrimSpace(kv), "=")
+		n, err := strconv.Atoi(v)
+		if !ok || err != nil {
+			return c, fmt.Errorf("-sim: %q is not key=integer", kv)
+		}
+		switch k {
+		case "seed":
+			c.Seed = uint64(n)
+		case "assets":
+			c.Assets = n
+		case "sectors":
+			c.Sectors = n
+		case "dates":
+			c.Dates = n
+		case "stress-start":
+			c.StressStart = n
+		case "stress-length":
+			c.StressLength = n
+		default:
+			return c, fmt.Errorf("-sim: unknown key %q (seed, assets, sectors, dates, stress-start, stress-length)", k)
+		}
+	}
+	return c, nil
 }

@@ -17,11 +17,11 @@ import (
 
 // Defaults of Options.
 const (
-	DefaultStep             = 21  // rebalance monthly: 21 business days (common practice, no source)
-	DefaultWindow           = 252 // one year of daily history
-	DefaultRandomPortfolios = 100 // random portfolios of each kind
-	DefaultTrackingNames    = 50  // names of the minimum-TE tracking portfolio
-	DefaultSeed             = 1   // seed of the random portfolios and of the factor fits
+	DefaultStep             = 21                      // rebalance monthly: 21 business days (common practice, no source)
+	DefaultWindow           = riskmodel.DefaultWindow // the nightly's window: what it publishes is what is measured
+	DefaultRandomPortfolios = 100                     // random portfolios of each kind
+	DefaultTrackingNames    = 50                      // names of the minimum-TE tracking portfolio
+	DefaultSeed             = 1                       // seed of the random portfolios and of the factor fits
 	OracleName              = "oracle"
 	minTestPortfolios       = 1
 )
@@ -132,6 +132,11 @@ type Score struct {
 	// (and the MV loss NaN where the forecast is singular).
 	FrobeniusLoss, MVLoss   float64
 	FrobeniusPRIAL, MVPRIAL float64
+
+	// TrackingTurnover is the mean one-way turnover ½·Σ|w_q − w_{q−1}| of
+	// the tracking portfolio from one rebalance date to the next (weights
+	// as built, before drift; an asset absent on a date has weight 0).
+	TrackingTurnover float64
 
 	FitSeconds float64 // mean wall-clock seconds of one fit; reported, never ranked
 	// Ridged counts the dates whose dense forecast was singular or had a
@@ -372,9 +377,10 @@ type evaluator struct {
 
 // dateResult is everything measured for one rebalance date.
 type dateResult struct {
-	period Period
-	est    []estimatorDate
-	refRet []float64 // realised returns of the reference portfolio
+	period   Period
+	est      []estimatorDate
+	refRet   []float64 // realised returns of the reference portfolio
+	universe []string  // the assets of the date, in the order of the weights
 }
 
 // estimatorDate is one estimator's measures on one date: forecasts (per
@@ -385,6 +391,7 @@ type estimatorDate struct {
 	gmv, long, trk []float64 // realised returns (active for trk)
 	gmvZ, longZ    []float64 // returns over forecast volatility
 	trkZ           []float64
+	trkW           []float64   // tracking portfolio weights, over the date's universe
 	randLong       [][]float64 // z of each random long-only portfolio
 	randActive     [][]float64
 	fundZ          []float64
@@ -502,8 +509,9 @@ func (ev *evaluator) date(q, r int) (*dateResult, error) {
 	support := largestNames(bench, o.TrackingNames)
 
 	res := &dateResult{
-		period: Period{AsOf: asof, First: p.Date(r + 1), Last: p.Date(r + k), Assets: n},
-		refRet: portfolioReturns(test, bench),
+		period:   Period{AsOf: asof, First: p.Date(r + 1), Last: p.Date(r + k), Assets: n},
+		refRet:   portfolioReturns(test, bench),
+		universe: universe,
 	}
 	ann := math.Sqrt(p.PeriodsPerYear())
 	res.period.ReferenceVol = evalStd(res.refRet) * ann
@@ -560,6 +568,7 @@ func (ev *evaluator) date(q, r int) (*dateResult, error) {
 		if !sr.Converged {
 			ed.notConverged++
 		}
+		ed.trkW = slices.Clone(w)
 		for i := range w {
 			w[i] -= bench[i]
 		}

@@ -17,6 +17,11 @@ const (
 	MetricRandomActive  = "active |bias-1|"       // mean |bias − 1| of the random active portfolios
 	MetricFrobeniusLoss = "Frobenius loss"        // against the truth
 	MetricMVLoss        = "minimum-variance loss" // against the truth
+	// The forecast's accuracy on the portfolios an optimizer builds, and
+	// the trades its noise causes.
+	MetricMinVarianceRatio = "min-variance |realised/forecast-1|"
+	MetricTrackingRatio    = "tracking |realised/forecast-1|"
+	MetricTurnover         = "tracking turnover"
 )
 
 // gather pools the dates, in date order, into the scores and ranks them.
@@ -93,11 +98,37 @@ func (ev *evaluator) gather(res []*dateResult) *Result {
 			s.MVPRIAL = prial(sampleMV, s.MVLoss)
 		}
 		s.FitSeconds = secs / nd
+		s.TrackingTurnover = turnover(res, e)
 		out.Scores = append(out.Scores, s)
 	}
 	rank(out, o.Truth != nil, o.RandomPortfolios > 0)
 	out.Recommendation = recommend(out)
 	return out
+}
+
+// turnover returns the mean one-way turnover of estimator e's tracking
+// portfolio between consecutive rebalance dates; NaN with one date.
+func turnover(res []*dateResult, e int) float64 {
+	if len(res) < 2 {
+		return math.NaN()
+	}
+	var sum float64
+	for q := 1; q < len(res); q++ {
+		prev := make(map[string]float64, len(res[q-1].universe))
+		for i, a := range res[q-1].universe {
+			prev[a] = res[q-1].est[e].trkW[i]
+		}
+		var tv float64
+		for i, a := range res[q].universe {
+			tv += math.Abs(res[q].est[e].trkW[i] - prev[a])
+			delete(prev, a)
+		}
+		for _, v := range prev {
+			tv += math.Abs(v)
+		}
+		sum += tv / 2
+	}
+	return sum / float64(len(res)-1)
 }
 
 func biasScore(z [][]float64) BiasScore {
@@ -138,6 +169,12 @@ func metricValue(s *Score, metric string) float64 {
 		return s.FrobeniusLoss
 	case MetricMVLoss:
 		return s.MVLoss
+	case MetricMinVarianceRatio:
+		return math.Abs(s.MinVariance.Realised.Value/s.MinVariance.Forecast - 1)
+	case MetricTrackingRatio:
+		return math.Abs(s.Tracking.Realised.Value/s.Tracking.Forecast - 1)
+	case MetricTurnover:
+		return s.TrackingTurnover
 	}
 	panic("riskmodel: unknown metric " + metric)
 }
@@ -148,7 +185,7 @@ func metricValue(s *Score, metric string) float64 {
 // realised minimum-variance volatility and then the options' order. Fit
 // times take no part, so the ranking is deterministic.
 func rank(ev *Result, truth, random bool) {
-	ev.Metrics = []string{MetricMinVariance, MetricLongOnly, MetricTracking}
+	ev.Metrics = []string{MetricMinVariance, MetricLongOnly, MetricTracking, MetricMinVarianceRatio, MetricTrackingRatio, MetricTurnover}
 	if random {
 		ev.Metrics = append(ev.Metrics, MetricRandomLong, MetricRandomActive)
 	}

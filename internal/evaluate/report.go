@@ -27,6 +27,7 @@ var evaluateColumns = []string{
 	"fund_bias", "fund_inside",
 	"frobenius_loss", "frobenius_prial_pct", "mv_loss", "mv_prial_pct",
 	"fit_seconds", "ridged_dates", "not_converged",
+	"minvar_ratio", "tracking_ratio", "tracking_turnover_pct",
 }
 
 // row returns the score's values in the order of evaluateColumns: a string,
@@ -50,6 +51,7 @@ func (s *Score) row() []any {
 	r = append(r, bias(s.RandomLongOnly)...)
 	r = append(r, bias(s.RandomActive)...)
 	r = append(r, fundBias, fundInside, s.FrobeniusLoss, s.FrobeniusPRIAL, s.MVLoss, s.MVPRIAL, s.FitSeconds, s.Ridged, s.NotConverged)
+	r = append(r, s.MinVariance.Realised.Value/s.MinVariance.Forecast, s.Tracking.Realised.Value/s.Tracking.Forecast, pct(s.TrackingTurnover))
 	return r
 }
 
@@ -139,7 +141,7 @@ func (ev *Result) WriteText(w io.Writer) error {
 		}
 	}
 	head := []string{"rank", "estimator", "mean rank", "minvar vol %", "95 % interval", "fcst %", "long-only %", "track TE %", "fcst %",
-		"long bias", "in band %", "active bias", "in band %"}
+		"long bias", "in band %", "active bias", "in band %", "mv r/f", "trk r/f", "turn %"}
 	if truth {
 		head = append(head, "PRIAL frob %", "PRIAL mv %")
 	}
@@ -161,6 +163,9 @@ func (ev *Result) WriteText(w io.Writer) error {
 			f("%.2f", 100*s.Tracking.Realised.Value), f("%.2f", 100*s.Tracking.Forecast),
 			f("%.3f", s.RandomLongOnly.MeanBias), f("%.0f", 100*s.RandomLongOnly.Inside.Value),
 			f("%.3f", s.RandomActive.MeanBias), f("%.0f", 100*s.RandomActive.Inside.Value),
+			f("%.2f", s.MinVariance.Realised.Value/s.MinVariance.Forecast),
+			f("%.2f", s.Tracking.Realised.Value/s.Tracking.Forecast),
+			f("%.1f", 100*s.TrackingTurnover),
 		}
 		if truth {
 			r = append(r, f("%.1f", s.FrobeniusPRIAL), f("%.1f", s.MVPRIAL))
@@ -190,6 +195,7 @@ func (ev *Result) WriteText(w io.Writer) error {
 	}
 	fmt.Fprintf(&b, "Ranked on %s (lower is better; mean of the ranks).\n", strings.Join(ev.Metrics, ", "))
 	b.WriteString("Bias: standard deviation of returns over their forecast volatility, 1 is right; in band: share of tests inside 1 ± √(2/T).\n")
+	b.WriteString("r/f: realised over forecast volatility of the minimum-variance and tracking portfolios, 1 is right; turn: one-way turnover of the tracking portfolio per rebalance.\n")
 	for _, s := range ev.Scores {
 		if s.Fund != nil {
 			fmt.Fprintf(&b, "Fund's active risk, bias statistic by estimator:")
