@@ -79,59 +79,96 @@ func Validate(m *Model, opts *ValidateOptions) *Validation {
 		o.MaxCondition = DefaultMaxCondition
 	}
 	v := &Validation{Finite: true, Symmetric: true}
-	problem := func(format string, args ...any) { v.Problems = append(v.Problems, fmt.Sprintf(format, args...)) }
 	if err := m.check(); err != nil {
-		problem("%v", err)
+		v.problem("%v", err)
 		return v
 	}
+	var op operators
+	if m.Factor != nil {
+		op = v.factorOperators(m)
+	} else if op = v.denseOperators(m); op.mul == nil {
+		return v
+	}
+	v.spectrum(len(m.Assets), op, o.MaxCondition)
+	v.coverage(m, o.Universe)
+	if o.Returns != nil {
+		v.bias(m, o.Returns, o.Portfolio)
+	}
+	return v
+}
+
+func (v *Validation) problem(format string, args ...any) {
+	v.Problems = append(v.Problems, fmt.Sprintf(format, args...))
+}
+
+// operators are a model's covariance as products: mul sets dst = Σx, solve
+// sets dst = Σ⁻¹x and reports whether the solve gave finite numbers.
+type operators struct {
+	mul   func(dst, x []float64)
+	solve func(dst, x []float64) bool
+}
+
+// factorOperators: NewModel has already checked finiteness, F ⪰ 0 and D > 0,
+// and a factor model is symmetric by construction, so it is positive
+// definite; Σx and the Woodbury solve cost O(N·K).
+func (v *Validation) factorOperators(m *Model) operators {
+	f := m.Factor
+	v.PositiveDefinite = true
+	return operators{
+		mul:   func(dst, x []float64) { f.MulVecTo(dst, x) },
+		solve: func(dst, x []float64) bool { f.SolveVecTo(dst, x); return true },
+	}
+}
+
+// denseOperators checks a dense covariance element by element and factors
+// it by the blocked multi-core Cholesky of internal/dense (O(N³/3)). It
+// returns no operators when an element is not finite.
+func (v *Validation) denseOperators(m *Model) operators {
+	s := m.Dense
 	n := len(m.Assets)
-	var mul func(dst, x []float64)
-	var solve func(dst, x []float64) bool
-	if f := m.Factor; f != nil {
-		// NewModel has already checked finiteness, F ⪰ 0 and D > 0, and a
-		// factor model is symmetric by construction.
-		v.PositiveDefinite = true
-		mul = func(dst, x []float64) { f.MulVecTo(dst, x) }
-		solve = func(dst, x []float64) bool { f.SolveVecTo(dst, x); return true }
-	} else {
-		s := m.Dense
-		raw := s.RawSymmetric()
-		for i := 0; i < n && v.Finite; i++ {
-			for _, x := range raw.Data[i*raw.Stride+i : i*raw.Stride+n] {
-				if math.IsNaN(x) || math.IsInf(x, 0) {
-					v.Finite = false
-					break
-				}
-			}
-		}
-		if !v.Finite {
-			problem("the covariance has a non-finite element")
-			return v
-		}
-		// A SymDense stores one triangle, so it is symmetric by construction;
-		// check the diagonal, which must be a variance.
-		for i := 0; i < n; i++ {
-			if s.At(i, i) < 0 {
-				problem("asset %s has a negative variance %g", m.Assets[i], s.At(i, i))
+	raw := s.RawSymmetric()
+	for i := 0; i < n && v.Finite; i++ {
+		for _, x := range raw.Data[i*raw.Stride+i : i*raw.Stride+n] {
+			if math.IsNaN(x) || math.IsInf(x, 0) {
+				v.Finite = false
 				break
 			}
 		}
-		var chol dense.Cholesky // blocked, on all cores
-		v.PositiveDefinite = chol.Factorize(s)
-		mul = func(dst, x []float64) { dense.SymVec(dst, raw, x) }
-		solve = func(dst, x []float64) bool {
+	}
+	if !v.Finite {
+		v.problem("the covariance has a non-finite element")
+		return operators{}
+	}
+	// A SymDense stores one triangle, so it is symmetric by construction;
+	// check the diagonal, which must be a variance.
+	for i := 0; i < n; i++ {
+		if s.At(i, i) < 0 {
+			v.problem("asset %s has a negative variance %g", m.Assets[i], s.At(i, i))
+			break
+		}
+	}
+	var chol dense.Cholesky // blocked, on all cores
+	v.PositiveDefinite = chol.Factorize(s)
+	return operators{
+		mul: func(dst, x []float64) { dense.SymVec(dst, raw, x) },
+		solve: func(dst, x []float64) bool {
 			for _, y := range chol.SolveVecTo(dst, x) {
 				if math.IsNaN(y) || math.IsInf(y, 0) {
 					return false
 				}
 			}
 			return true
-		}
+		},
 	}
-	v.MaxEigenvalue = dense.LargestEigenvalue(n, mul)
+}
+
+// spectrum sets the extreme eigenvalues by power iteration on Σ and, when Σ
+// is positive definite, on Σ⁻¹, and the condition number from them.
+func (v *Validation) spectrum(n int, op operators, maxCondition float64) {
+	v.MaxEigenvalue = dense.LargestEigenvalue(n, op.mul)
 	if v.PositiveDefinite {
 		inv := dense.LargestEigenvalue(n, func(dst, x []float64) {
-			if !solve(dst, x) {
+			if !op.solve(dst, x) {
 				clear(dst)
 			}
 		})
@@ -140,40 +177,46 @@ func Validate(m *Model, opts *ValidateOptions) *Validation {
 		}
 	}
 	if !v.PositiveDefinite || !(v.MinEigenvalue > 0) {
-		problem("the covariance is not positive definite")
+		v.problem("the covariance is not positive definite")
 		v.Condition = math.Inf(1)
-	} else {
-		v.Condition = v.MaxEigenvalue / v.MinEigenvalue
-		if v.Condition > o.MaxCondition {
-			problem("condition number %.3g is above the maximum %.3g", v.Condition, o.MaxCondition)
+		return
+	}
+	v.Condition = v.MaxEigenvalue / v.MinEigenvalue
+	if v.Condition > maxCondition {
+		v.problem("condition number %.3g is above the maximum %.3g", v.Condition, maxCondition)
+	}
+}
+
+// coverage lists the universe's assets that the model lacks.
+func (v *Validation) coverage(m *Model, universe []string) {
+	if universe == nil {
+		return
+	}
+	have := make(map[string]bool, len(m.Assets))
+	for _, a := range m.Assets {
+		have[a] = true
+	}
+	for _, a := range universe {
+		if !have[a] {
+			v.Uncovered = append(v.Uncovered, a)
 		}
 	}
-	if o.Universe != nil {
-		have := make(map[string]bool, n)
-		for _, a := range m.Assets {
-			have[a] = true
-		}
-		for _, a := range o.Universe {
-			if !have[a] {
-				v.Uncovered = append(v.Uncovered, a)
-			}
-		}
-		if len(v.Uncovered) > 0 {
-			problem("%d universe assets are not covered, first %s", len(v.Uncovered), v.Uncovered[0])
-		}
+	if len(v.Uncovered) > 0 {
+		v.problem("%d universe assets are not covered, first %s", len(v.Uncovered), v.Uncovered[0])
 	}
-	if o.Returns != nil {
-		b, err := BiasStatistic(m, o.Returns, o.Portfolio)
-		if err != nil {
-			problem("bias statistic: %v", err)
-		} else {
-			v.Bias = b
-			if !b.Inside {
-				problem("bias statistic %.3f is outside the band [%.3f, %.3f]", b.Value, b.Lower, b.Upper)
-			}
-		}
+}
+
+// bias sets the bias statistic of the test portfolio over the returns.
+func (v *Validation) bias(m *Model, r *Panel, portfolio map[string]float64) {
+	b, err := BiasStatistic(m, r, portfolio)
+	if err != nil {
+		v.problem("bias statistic: %v", err)
+		return
 	}
-	return v
+	v.Bias = b
+	if !b.Inside {
+		v.problem("bias statistic %.3f is outside the band [%.3f, %.3f]", b.Value, b.Lower, b.Upper)
+	}
 }
 
 // BiasStatistic computes the bias statistic of the model's forecast for a
