@@ -36,7 +36,7 @@ func ExampleAttribute() {
 		sectors[a.Asset] = a.Sector
 	}
 	t, _ := p.Dims()
-	m, _, err := riskmodel.Build(p, p.Date(t-1), &riskmodel.BuildOptions{Groups: sectors, Seed: 1})
+	m, _, err := riskmodel.Build(p, p.Date(t-1), &riskmodel.BuildOptions{Seed: 1, Factor: riskmodel.FactorOptions{Groups: sectors}})
 	if err != nil {
 		log.Fatal(err)
 	}

@@ -50,56 +50,74 @@ const (
 const RepairCondition = DefaultMaxCondition / 100
 
 // BuildOptions configure Build. A nil *BuildOptions, or a zero field, means
-// the documented default.
+// the documented default. The fields at the top apply to every method; each
+// estimator family reads its own settings (EWMA, Factor, Shrink) and ignores
+// the others', as each of gonum's optimize methods owns its settings.
 type BuildOptions struct {
 	Method string // one of Methods; default MethodFactor
 	Window int    // number of dates of history up to the as-of date; default DefaultWindow
 	// MinObs drops assets with fewer observations in the window; default
-	// half the window's dates. Dropped assets are listed in the report.
+	// DefaultMinObs of the window's dates. Dropped assets are listed in the
+	// report.
 	MinObs int
+	Seed   uint64 // seed of every randomized step (principal components, simulations)
 
-	// VolHalfLife and CorrHalfLife, in periods, set the exponential weights of
-	// the ewma method and of the factor model's factor covariance; defaults
-	// DefaultVolHalfLife and DefaultCorrHalfLife.
-	VolHalfLife, CorrHalfLife float64
-	// SpecificHalfLife weights the factor model's residual variances;
-	// default VolHalfLife.
-	SpecificHalfLife float64
-	// NeweyWestLags adjusts the ewma and factor covariances for serial
-	// correlation: 0 none, n > 0 lags, ewma.AutoLags the automatic rule.
-	NeweyWestLags int
-	// ShrinkHalfLife, if positive, weights the observations of the shrinkage
-	// estimators (ledoit-wolf … nonlinear) exponentially with this half-life;
-	// zero means equal weights, the estimators' published form.
-	ShrinkHalfLife float64
-
-	// Factors fixes the number of factors; 0 chooses it by Bai & Ng's IC_p2.
-	Factors    int
-	MaxFactors int // the largest number the criteria consider; 0: package factor's default
-	// Criterion names the factor-count criterion (factor.Criterion's
-	// String, e.g. "holdout-likelihood"); "" means Bai & Ng's IC_p2.
-	Criterion string
 	// Adjust switches on the corrections for optimized portfolios and
 	// volatility regimes (see factor.Adjustments); only Regime and
 	// RegimeHalfLife apply to the dense methods (see ParseVariant).
 	Adjust factor.Adjustments
-	Seed   uint64 // seed of the randomized principal components
-	// Groups maps an asset to its group (sector, size bucket) for the
-	// shrinkage of the factor model's specific variances; nil: one group.
-	Groups map[string]string
-	// GroupsName says what Groups are ("sector"), for the model's record
-	// (Settings["specific_groups"]); default "groups".
-	GroupsName string
 	// Previous, if set, is the previous model whose factors the new ones are
 	// rotated onto, so that factors keep their order and sign.
 	Previous *Model
 
-	// Sectors and MarketCaps give each asset's sector and market cap; the
-	// exposure and hybrid methods require them (asset metadata columns
-	// sector and market_cap) and drop, and report, assets that lack either.
-	// The hybrid method adds Factors statistical factors (default 3).
+	// Sectors and MarketCaps are asset metadata (the columns sector and
+	// market_cap); the exposure and hybrid methods require both and drop,
+	// and report, assets that lack either.
 	Sectors    map[string]string
 	MarketCaps map[string]float64
+
+	EWMA   EWMAOptions   // the ewma method, and the factor covariance of every factor method
+	Factor FactorOptions // the factor method, and the statistical part of hybrid
+	Shrink ShrinkOptions // ledoit-wolf, oas, constant-correlation, single-index, schafer-strimmer, nonlinear
+}
+
+// EWMAOptions are the exponential weights of the ewma method and of the
+// factor covariance F of the factor, exposure and hybrid methods.
+type EWMAOptions struct {
+	// VolHalfLife and CorrHalfLife, in periods; defaults DefaultVolHalfLife
+	// and DefaultCorrHalfLife.
+	VolHalfLife, CorrHalfLife float64
+	// NeweyWestLags adjusts for serial correlation: 0 none, n > 0 lags,
+	// ewma.AutoLags the automatic rule.
+	NeweyWestLags int
+}
+
+// FactorOptions configure the factor models.
+type FactorOptions struct {
+	// K fixes the number of factors; 0 chooses it by Criterion. The hybrid
+	// method adds K statistical factors (default 3).
+	K          int
+	MaxFactors int // the largest number the criteria consider; 0: package factor's default
+	// Criterion names the factor-count criterion (factor.Criterion's
+	// String, e.g. "holdout-likelihood"); "" means Bai & Ng's IC_p2.
+	Criterion string
+	// SpecificHalfLife weights the residual variances; default
+	// EWMA.VolHalfLife.
+	SpecificHalfLife float64
+	// Groups maps an asset to its group (sector, size bucket) for the
+	// shrinkage of the specific variances; nil: one group.
+	Groups map[string]string
+	// GroupsName says what Groups are ("sector"), for the model's record
+	// (Settings["specific_groups"]); default "groups".
+	GroupsName string
+}
+
+// ShrinkOptions configure the shrinkage estimators.
+type ShrinkOptions struct {
+	// HalfLife, if positive, weights the observations exponentially with
+	// this half-life; zero means equal weights, the estimators' published
+	// form.
+	HalfLife float64
 }
 
 // BuildReport says what Build did to the data and the estimate.
@@ -229,14 +247,14 @@ func withBuildDefaults(opts *BuildOptions) BuildOptions {
 	if o.Window == 0 {
 		o.Window = DefaultWindow
 	}
-	if o.VolHalfLife == 0 {
-		o.VolHalfLife = DefaultVolHalfLife
+	if o.EWMA.VolHalfLife == 0 {
+		o.EWMA.VolHalfLife = DefaultVolHalfLife
 	}
-	if o.CorrHalfLife == 0 {
-		o.CorrHalfLife = DefaultCorrHalfLife
+	if o.EWMA.CorrHalfLife == 0 {
+		o.EWMA.CorrHalfLife = DefaultCorrHalfLife
 	}
-	if o.SpecificHalfLife == 0 {
-		o.SpecificHalfLife = o.VolHalfLife
+	if o.Factor.SpecificHalfLife == 0 {
+		o.Factor.SpecificHalfLife = o.EWMA.VolHalfLife
 	}
 	return o
 }
@@ -247,29 +265,29 @@ func (o BuildOptions) settings() map[string]string {
 	s := map[string]string{"window": strconv.Itoa(o.Window)}
 	switch o.Method {
 	case MethodFactor:
-		s["vol_half_life"] = f(o.VolHalfLife)
-		s["corr_half_life"] = f(o.CorrHalfLife)
-		s["specific_half_life"] = f(o.SpecificHalfLife)
-		s["newey_west_lags"] = strconv.Itoa(o.NeweyWestLags)
-		s["factors"] = strconv.Itoa(o.Factors)
+		s["vol_half_life"] = f(o.EWMA.VolHalfLife)
+		s["corr_half_life"] = f(o.EWMA.CorrHalfLife)
+		s["specific_half_life"] = f(o.Factor.SpecificHalfLife)
+		s["newey_west_lags"] = strconv.Itoa(o.EWMA.NeweyWestLags)
+		s["factors"] = strconv.Itoa(o.Factor.K)
 		s["seed"] = strconv.FormatUint(o.Seed, 10)
 	case MethodEWMA:
-		s["vol_half_life"] = f(o.VolHalfLife)
-		s["corr_half_life"] = f(o.CorrHalfLife)
-		s["newey_west_lags"] = strconv.Itoa(o.NeweyWestLags)
+		s["vol_half_life"] = f(o.EWMA.VolHalfLife)
+		s["corr_half_life"] = f(o.EWMA.CorrHalfLife)
+		s["newey_west_lags"] = strconv.Itoa(o.EWMA.NeweyWestLags)
 	case MethodExposure, MethodHybrid:
-		s["vol_half_life"] = f(o.VolHalfLife)
-		s["corr_half_life"] = f(o.CorrHalfLife)
-		s["specific_half_life"] = f(o.SpecificHalfLife)
-		s["newey_west_lags"] = strconv.Itoa(o.NeweyWestLags)
+		s["vol_half_life"] = f(o.EWMA.VolHalfLife)
+		s["corr_half_life"] = f(o.EWMA.CorrHalfLife)
+		s["specific_half_life"] = f(o.Factor.SpecificHalfLife)
+		s["newey_west_lags"] = strconv.Itoa(o.EWMA.NeweyWestLags)
 		if o.Method == MethodHybrid {
 			s["factors"] = strconv.Itoa(o.hybridFactors())
 			s["seed"] = strconv.FormatUint(o.Seed, 10)
 		}
 	case MethodSample:
 	default:
-		if o.ShrinkHalfLife > 0 {
-			s["shrink_half_life"] = f(o.ShrinkHalfLife)
+		if o.Shrink.HalfLife > 0 {
+			s["shrink_half_life"] = f(o.Shrink.HalfLife)
 		}
 	}
 	return s
@@ -277,11 +295,11 @@ func (o BuildOptions) settings() map[string]string {
 
 func buildFactor(m *Model, win *Panel, o BuildOptions, rep *BuildReport) error {
 	s := factor.Settings{
-		K:                o.Factors,
-		MaxFactors:       o.MaxFactors,
+		K:                o.Factor.K,
+		MaxFactors:       o.Factor.MaxFactors,
 		Seed:             o.Seed,
-		Covariance:       ewma.Settings{VolHalfLife: o.VolHalfLife, CorrHalfLife: o.CorrHalfLife, NeweyWestLags: o.NeweyWestLags},
-		SpecificHalfLife: o.SpecificHalfLife,
+		Covariance:       ewma.Settings{VolHalfLife: o.EWMA.VolHalfLife, CorrHalfLife: o.EWMA.CorrHalfLife, NeweyWestLags: o.EWMA.NeweyWestLags},
+		SpecificHalfLife: o.Factor.SpecificHalfLife,
 		Assets:           m.Assets,
 		Adjust:           o.Adjust,
 	}
@@ -289,10 +307,10 @@ func buildFactor(m *Model, win *Panel, o BuildOptions, rep *BuildReport) error {
 	if s.Criterion, err = o.criterion(); err != nil {
 		return err
 	}
-	if o.Groups != nil {
+	if o.Factor.Groups != nil {
 		s.Groups = make([]string, len(m.Assets))
 		for i, a := range m.Assets {
-			s.Groups[i] = o.Groups[a]
+			s.Groups[i] = o.Factor.Groups[a]
 		}
 	}
 	if prev := o.Previous; prev != nil && prev.Factor != nil {
@@ -353,8 +371,8 @@ func keepClassified(win *Panel, o BuildOptions) (*Panel, []string) {
 
 // hybridFactors is the number of statistical factors of the hybrid method.
 func (o BuildOptions) hybridFactors() int {
-	if o.Factors > 0 {
-		return o.Factors
+	if o.Factor.K > 0 {
+		return o.Factor.K
 	}
 	return 3
 }
@@ -363,18 +381,18 @@ func buildExposure(m *Model, win *Panel, o BuildOptions, rep *BuildReport) error
 	s := factor.ExposureSettings{
 		Sectors:          make([]string, len(m.Assets)),
 		StaticCaps:       make([]float64, len(m.Assets)),
-		Covariance:       ewma.Settings{VolHalfLife: o.VolHalfLife, CorrHalfLife: o.CorrHalfLife, NeweyWestLags: o.NeweyWestLags},
-		SpecificHalfLife: o.SpecificHalfLife,
+		Covariance:       ewma.Settings{VolHalfLife: o.EWMA.VolHalfLife, CorrHalfLife: o.EWMA.CorrHalfLife, NeweyWestLags: o.EWMA.NeweyWestLags},
+		SpecificHalfLife: o.Factor.SpecificHalfLife,
 		Assets:           m.Assets,
 	}
 	for i, a := range m.Assets {
 		s.Sectors[i] = o.Sectors[a]
 		s.StaticCaps[i] = o.MarketCaps[a]
 	}
-	if o.Groups != nil {
+	if o.Factor.Groups != nil {
 		s.Groups = make([]string, len(m.Assets))
 		for i, a := range m.Assets {
-			s.Groups[i] = o.Groups[a]
+			s.Groups[i] = o.Factor.Groups[a]
 		}
 	}
 	var f *factor.Model
@@ -412,7 +430,7 @@ func buildEWMA(m *Model, win *Panel, o BuildOptions, rep *BuildReport) error {
 		_, r, err = ewma.Covariance(dst, win.r, nil, &ewma.Options{Demean: true})
 	} else {
 		_, r, err = ewma.Estimate(dst, win.r, ewma.Settings{
-			VolHalfLife: o.VolHalfLife, CorrHalfLife: o.CorrHalfLife, NeweyWestLags: o.NeweyWestLags,
+			VolHalfLife: o.EWMA.VolHalfLife, CorrHalfLife: o.EWMA.CorrHalfLife, NeweyWestLags: o.EWMA.NeweyWestLags,
 		})
 	}
 	if err != nil {
@@ -443,9 +461,9 @@ func buildShrink(m *Model, win *Panel, o BuildOptions, rep *BuildReport) error {
 		rep.Notes = append(rep.Notes, fmt.Sprintf("%d missing returns filled with their asset's window mean", rep.Imputed))
 	}
 	var w []float64
-	if o.ShrinkHalfLife > 0 {
+	if o.Shrink.HalfLife > 0 {
 		var err error
-		if w, err = ewma.Weights(nil, len(win.dates), o.ShrinkHalfLife); err != nil {
+		if w, err = ewma.Weights(nil, len(win.dates), o.Shrink.HalfLife); err != nil {
 			return err
 		}
 	}

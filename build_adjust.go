@@ -48,15 +48,15 @@ func ParseVariant(name string) (BuildOptions, error) {
 			o.Adjust.Regime = true
 			isFactor = false
 		case p == VariantHoldout:
-			o.Criterion = factor.HoldoutLikelihood.String()
+			o.Factor.Criterion = factor.HoldoutLikelihood.String()
 		case p == VariantHoldoutMV:
-			o.Criterion = factor.HoldoutMinVariance.String()
+			o.Factor.Criterion = factor.HoldoutMinVariance.String()
 		case strings.HasPrefix(p, "k"):
 			k, err := strconv.Atoi(p[1:])
 			if err != nil || k < 1 {
 				return bad("bad factor count %q", p)
 			}
-			o.Factors = k
+			o.Factor.K = k
 		default:
 			return bad("unknown switch %q (eigen, dispersion, regime, holdout, holdout-mv, k<N>)", p)
 		}
@@ -67,17 +67,17 @@ func ParseVariant(name string) (BuildOptions, error) {
 	return o, nil
 }
 
-// criterion resolves BuildOptions.Criterion.
+// criterion resolves BuildOptions.Factor.Criterion.
 func (o BuildOptions) criterion() (factor.Criterion, error) {
-	if o.Criterion == "" {
+	if o.Factor.Criterion == "" {
 		return factor.BaiNgICp2, nil
 	}
 	for c := factor.BaiNgICp2; c <= factor.HoldoutMinVariance; c++ {
-		if c.String() == o.Criterion {
+		if c.String() == o.Factor.Criterion {
 			return c, nil
 		}
 	}
-	return 0, fmt.Errorf("%w: factor criterion %q", ErrMethod, o.Criterion)
+	return 0, fmt.Errorf("%w: factor criterion %q", ErrMethod, o.Factor.Criterion)
 }
 
 // adjustSettings adds the switched-on corrections to the model's settings.
@@ -85,8 +85,8 @@ func (o BuildOptions) adjustSettings(s map[string]string) {
 	f := func(v float64) string { return strconv.FormatFloat(v, 'g', -1, 64) }
 	a := o.Adjust
 	if o.Method == MethodFactor {
-		if o.Criterion != "" {
-			s["criterion"] = o.Criterion
+		if o.Factor.Criterion != "" {
+			s["criterion"] = o.Factor.Criterion
 		}
 		if a.Dispersion {
 			s["dispersion"] = "true"
@@ -139,15 +139,15 @@ func factorAdjustNotes(info factor.Info, rep *BuildReport) {
 
 // adjustDense applies the volatility-regime multiplier to a dense estimate:
 // the asset returns of the window standardized by a rolling forecast with
-// the estimator's own weighting (VolHalfLife for ewma, ShrinkHalfLife or
+// the estimator's own weighting (EWMA.VolHalfLife for ewma, Shrink.HalfLife or
 // equal weights for the others).
 func adjustDense(m *Model, win *Panel, o BuildOptions, rep *BuildReport) error {
 	if m.Dense == nil || !o.Adjust.Regime {
 		return nil
 	}
-	hl := o.ShrinkHalfLife
+	hl := o.Shrink.HalfLife
 	if o.Method == MethodEWMA {
-		hl = o.VolHalfLife
+		hl = o.EWMA.VolHalfLife
 	}
 	g, err := factor.VolatilityRegime(win.r, factor.RegimeSettings{HalfLife: o.Adjust.RegimeHalfLife, ForecastHalfLife: hl})
 	if err != nil {

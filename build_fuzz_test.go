@@ -73,12 +73,11 @@ func FuzzBuild(f *testing.F) {
 			Method:       method,
 			Window:       int(b.Next() % 30),
 			MinObs:       int(b.Next() % 6),
-			Factors:      int(b.Next() % 4),
-			VolHalfLife:  float64(b.Next() % 30),
-			CorrHalfLife: float64(b.Next() % 30),
+			Factor:       FactorOptions{K: int(b.Next() % 4)},
+			EWMA:         EWMAOptions{VolHalfLife: float64(b.Next() % 30), CorrHalfLife: float64(b.Next() % 30)},
 		}
 		if c := b.Next(); c%4 == 0 {
-			opts.NeweyWestLags = int(c/4%3) - 1
+			opts.EWMA.NeweyWestLags = int(c/4%3) - 1
 		}
 		p := fuzzBuildPanel(&b)
 		sectors, caps := map[string]string{}, map[string]float64{}

@@ -27,17 +27,17 @@ func recordGroups(m *Model, o BuildOptions) {
 	default:
 		return
 	}
-	if o.Groups == nil {
+	if o.Factor.Groups == nil {
 		m.Settings["specific_groups"] = "one group"
 		return
 	}
-	name := o.GroupsName
+	name := o.Factor.GroupsName
 	if name == "" {
 		name = "groups"
 	}
 	seen := map[string]bool{}
 	for _, a := range m.Assets {
-		seen[o.Groups[a]] = true
+		seen[o.Factor.Groups[a]] = true
 	}
 	m.Settings["specific_groups"] = fmt.Sprintf("%s: %d groups", name, len(seen))
 }

@@ -19,7 +19,7 @@ func TestBuildRecordsTheWindowUsed(t *testing.T) {
 		groups[a.Asset] = a.Sector
 	}
 	asof := d.Panel.Date(149)
-	m, rep, err := riskmodel.Build(d.Panel, asof, &riskmodel.BuildOptions{Window: 2000, Factors: 2, Groups: groups, GroupsName: "sector"})
+	m, rep, err := riskmodel.Build(d.Panel, asof, &riskmodel.BuildOptions{Window: 2000, Factor: riskmodel.FactorOptions{K: 2, Groups: groups, GroupsName: "sector"}})
 	require.NoError(t, err)
 	require.Equal(t, 150, rep.Dates)
 	require.Equal(t, "150", m.Settings["window"])
@@ -28,7 +28,7 @@ func TestBuildRecordsTheWindowUsed(t *testing.T) {
 		" has 150: used 150 (from "+d.Panel.Date(0).String()+")")
 	require.Equal(t, "sector: 4 groups", m.Settings["specific_groups"])
 
-	m, _, err = riskmodel.Build(d.Panel, asof, &riskmodel.BuildOptions{Window: 100, Factors: 2})
+	m, _, err = riskmodel.Build(d.Panel, asof, &riskmodel.BuildOptions{Window: 100, Factor: riskmodel.FactorOptions{K: 2}})
 	require.NoError(t, err)
 	require.Equal(t, "100", m.Settings["window"])
 	require.NotContains(t, m.Settings, "window_requested")
@@ -45,7 +45,7 @@ func TestBuildRecordsTheWindowUsed(t *testing.T) {
 func TestBuildDoesNotDependOnThePreviousModel(t *testing.T) {
 	d, err := demo.Generate(&demo.Config{Seed: 3, Assets: 80, Dates: 320})
 	require.NoError(t, err)
-	opts := &riskmodel.BuildOptions{Window: 250, Factors: 4}
+	opts := &riskmodel.BuildOptions{Window: 250, Factor: riskmodel.FactorOptions{K: 4}}
 	prev, _, err := riskmodel.Build(d.Panel, d.Panel.Date(300), opts)
 	require.NoError(t, err)
 	alone, _, err := riskmodel.Build(d.Panel, d.Panel.Date(319), opts)

@@ -32,7 +32,7 @@ func TestBuildEveryMethodGivesAValidModel(t *testing.T) {
 		t.Run(method, func(t *testing.T) {
 			// 300 dates leave 48 regressions after the exposure model's
 			// one-year momentum look-back.
-			m, rep, err := riskmodel.Build(p, asof, &riskmodel.BuildOptions{Method: method, Window: 300, Factors: 4, Sectors: sectors, MarketCaps: caps})
+			m, rep, err := riskmodel.Build(p, asof, &riskmodel.BuildOptions{Method: method, Window: 300, Sectors: sectors, MarketCaps: caps, Factor: riskmodel.FactorOptions{K: 4}})
 			require.NoError(t, err)
 			require.Equal(t, method, m.Method)
 			require.Equal(t, rep.Assets, len(m.Assets))

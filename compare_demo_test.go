@@ -12,7 +12,7 @@ import (
 func TestCompareAgreesWithBuildAlignment(t *testing.T) {
 	d, err := demo.Generate(&demo.Config{Seed: 3, Assets: 120, Dates: 320})
 	require.NoError(t, err)
-	opts := &riskmodel.BuildOptions{Window: 250, Factors: 4}
+	opts := &riskmodel.BuildOptions{Window: 250, Factor: riskmodel.FactorOptions{K: 4}}
 	prev, _, err := riskmodel.Build(d.Panel, d.Panel.Date(300), opts)
 	require.NoError(t, err)
 	opts.Previous = prev

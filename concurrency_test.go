@@ -82,7 +82,7 @@ func TestConcurrentReads(t *testing.T) {
 	})
 
 	for _, method := range []string{riskmodel.MethodFactor, riskmodel.MethodLedoitWolf} {
-		m, _, err := riskmodel.Build(p, asof, &riskmodel.BuildOptions{Method: method, Window: 250, Factors: 4})
+		m, _, err := riskmodel.Build(p, asof, &riskmodel.BuildOptions{Method: method, Window: 250, Factor: riskmodel.FactorOptions{K: 4}})
 		require.NoError(t, err)
 		k := len(m.Assets)
 		x := make([]float64, k)

@@ -42,7 +42,7 @@ func TestBuildDeterministicAcrossProcs(t *testing.T) {
 	defer runtime.GOMAXPROCS(runtime.GOMAXPROCS(0))
 	for _, method := range []string{riskmodel.MethodFactor, riskmodel.MethodLedoitWolf, riskmodel.MethodEWMA, riskmodel.MethodExposure} {
 		t.Run(method, func(t *testing.T) {
-			opts := &riskmodel.BuildOptions{Method: method, Window: 300, Factors: 4, Sectors: sectors, MarketCaps: caps}
+			opts := &riskmodel.BuildOptions{Method: method, Window: 300, Sectors: sectors, MarketCaps: caps, Factor: riskmodel.FactorOptions{K: 4}}
 			requireSameAcrossProcs(t, p, asof, opts)
 		})
 	}
@@ -56,7 +56,7 @@ func TestBuildDeterministicAcrossProcs(t *testing.T) {
 	bt, _ := big.Panel.Dims()
 	for _, method := range []string{riskmodel.MethodFactor, riskmodel.MethodLedoitWolf, riskmodel.MethodEWMA} {
 		t.Run(method+" 300 assets", func(t *testing.T) {
-			requireSameAcrossProcs(t, big.Panel, big.Panel.Date(bt-1), &riskmodel.BuildOptions{Method: method, Window: 120, Factors: 5})
+			requireSameAcrossProcs(t, big.Panel, big.Panel.Date(bt-1), &riskmodel.BuildOptions{Method: method, Window: 120, Factor: riskmodel.FactorOptions{K: 5}})
 		})
 	}
 }

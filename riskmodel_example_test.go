@@ -21,7 +21,7 @@ func Example() {
 	}
 	p := demo.Panel
 	t, _ := p.Dims()
-	m, rep, err := riskmodel.Build(p, p.Date(t-1), &riskmodel.BuildOptions{Method: riskmodel.MethodFactor, Factors: 7})
+	m, rep, err := riskmodel.Build(p, p.Date(t-1), &riskmodel.BuildOptions{Method: riskmodel.MethodFactor, Factor: riskmodel.FactorOptions{K: 7}})
 	if err != nil {
 		log.Fatal(err)
 	}

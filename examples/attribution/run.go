@@ -231,7 +231,7 @@ func loadModel(dir, demoReturns string, assets []riskmodel.AssetInfo) (*riskmode
 		groups[a.Asset] = a.Sector
 	}
 	t, _ := p.Dims()
-	m, _, err := riskmodel.Build(p, p.Date(t-1), &riskmodel.BuildOptions{Groups: groups, Seed: 1})
+	m, _, err := riskmodel.Build(p, p.Date(t-1), &riskmodel.BuildOptions{Factor: riskmodel.FactorOptions{Groups: groups}, Seed: 1})
 	return m, err
 }
 

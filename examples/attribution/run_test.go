@@ -32,7 +32,7 @@ func store(t *testing.T) (dir string, files map[string]string) {
 	require.NoError(t, err)
 	data := t.TempDir()
 	require.NoError(t, d.WriteFiles(data))
-	m, _, err := riskmodel.Build(d.Panel, d.Panel.Date(299), &riskmodel.BuildOptions{Window: 250, Factors: 3})
+	m, _, err := riskmodel.Build(d.Panel, d.Panel.Date(299), &riskmodel.BuildOptions{Window: 250, Factor: riskmodel.FactorOptions{K: 3}})
 	require.NoError(t, err)
 	dir = filepath.Join(t.TempDir(), "store")
 	_, err = riskmodel.Store{Dir: dir}.Publish(m)

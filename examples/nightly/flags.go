@@ -92,15 +92,15 @@ Flags:
 	fs.IntVar(&b.Window, "window", riskmodel.DefaultWindow, "dates of history up to -asof")
 	fs.IntVar(&b.MinObs, "min-obs", 0, "drop assets with fewer observations in the window (0: half the window)")
 	fs.StringVar(&b.Method, "method", riskmodel.MethodFactor, "estimator: "+strings.Join(riskmodel.Methods, ", "))
-	fs.Float64Var(&b.VolHalfLife, "vol-half-life", riskmodel.DefaultVolHalfLife, "half-life in dates of the volatilities (factor, ewma)")
-	fs.Float64Var(&b.CorrHalfLife, "corr-half-life", riskmodel.DefaultCorrHalfLife, "half-life in dates of the correlations (factor, ewma)")
-	fs.Float64Var(&b.SpecificHalfLife, "specific-half-life", 0, "half-life in dates of the specific variances (factor; 0: -vol-half-life)")
-	fs.Float64Var(&b.ShrinkHalfLife, "shrink-half-life", 0, "half-life of the observation weights of the shrinkage methods (0: equal weights)")
-	fs.IntVar(&b.NeweyWestLags, "newey-west-lags", 0, "Newey-West lags of the factor and ewma covariances (0: none)")
-	fs.IntVar(&b.Factors, "factors", 0, "number of factors (0: chosen by Bai and Ng's IC_p2)")
-	fs.IntVar(&b.MaxFactors, "max-factors", 0, "largest number of factors the criterion considers (0: package default)")
+	fs.Float64Var(&b.EWMA.VolHalfLife, "vol-half-life", riskmodel.DefaultVolHalfLife, "half-life in dates of the volatilities (factor, ewma)")
+	fs.Float64Var(&b.EWMA.CorrHalfLife, "corr-half-life", riskmodel.DefaultCorrHalfLife, "half-life in dates of the correlations (factor, ewma)")
+	fs.Float64Var(&b.Factor.SpecificHalfLife, "specific-half-life", 0, "half-life in dates of the specific variances (factor; 0: -vol-half-life)")
+	fs.Float64Var(&b.Shrink.HalfLife, "shrink-half-life", 0, "half-life of the observation weights of the shrinkage methods (0: equal weights)")
+	fs.IntVar(&b.EWMA.NeweyWestLags, "newey-west-lags", 0, "Newey-West lags of the factor and ewma covariances (0: none)")
+	fs.IntVar(&b.Factor.K, "factors", 0, "number of factors (0: chosen by Bai and Ng's IC_p2)")
+	fs.IntVar(&b.Factor.MaxFactors, "max-factors", 0, "largest number of factors the criterion considers (0: package default)")
 	seed := fs.Uint64("seed", 1, "seed of the randomized principal components")
-	fs.StringVar(&b.Criterion, "criterion", defaultCriterion, "factor-count criterion: bai-ng-icp2, bai-ng-icp1, ahn-horenstein-er, ahn-horenstein-gr, onatski-ed, marchenko-pastur, holdout-likelihood, holdout-min-variance")
+	fs.StringVar(&b.Factor.Criterion, "criterion", defaultCriterion, "factor-count criterion: bai-ng-icp2, bai-ng-icp1, ahn-horenstein-er, ahn-horenstein-gr, onatski-ed, marchenko-pastur, holdout-likelihood, holdout-min-variance")
 	adjust := fs.String("adjust", "default", "comma-separated corrections: eigen, dispersion (factor), regime (every method); none for no correction; default: "+defaultFactorAdjust+" for factor, none for the others")
 	fs.Float64Var(&b.Adjust.RegimeHalfLife, "regime-half-life", 0, "half-life in dates of the volatility-regime multiplier (0: package default)")
 	defOut, defErr := defaultStore()
@@ -178,14 +178,14 @@ func (cfg *config) check(asof string) error {
 		return fmt.Errorf("-window must be at least 2, got %d", b.Window)
 	case b.MinObs < 0:
 		return fmt.Errorf("-min-obs must not be negative, got %d", b.MinObs)
-	case !(b.VolHalfLife > 0) || !(b.CorrHalfLife > 0):
-		return fmt.Errorf("-vol-half-life and -corr-half-life must be positive, got %g and %g", b.VolHalfLife, b.CorrHalfLife)
-	case b.SpecificHalfLife < 0 || b.ShrinkHalfLife < 0:
+	case !(b.EWMA.VolHalfLife > 0) || !(b.EWMA.CorrHalfLife > 0):
+		return fmt.Errorf("-vol-half-life and -corr-half-life must be positive, got %g and %g", b.EWMA.VolHalfLife, b.EWMA.CorrHalfLife)
+	case b.Factor.SpecificHalfLife < 0 || b.Shrink.HalfLife < 0:
 		return fmt.Errorf("-specific-half-life and -shrink-half-life must not be negative")
-	case b.Factors < 0 || b.MaxFactors < 0:
+	case b.Factor.K < 0 || b.Factor.MaxFactors < 0:
 		return fmt.Errorf("-factors and -max-factors must not be negative")
-	case b.NeweyWestLags < 0:
-		return fmt.Errorf("-newey-west-lags must not be negative, got %d", b.NeweyWestLags)
+	case b.EWMA.NeweyWestLags < 0:
+		return fmt.Errorf("-newey-west-lags must not be negative, got %d", b.EWMA.NeweyWestLags)
 	case cfg.biasWindow < 2:
 		return fmt.Errorf("-bias-window must be at least 2, got %d", cfg.biasWindow)
 	case !(cfg.minCoverage >= 0 && cfg.minCoverage <= 1):

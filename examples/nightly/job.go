@@ -217,12 +217,12 @@ func build(cfg config, in *inputs, asof riskmodel.Date, prev *riskmodel.Model, l
 	o := cfg.build
 	// Sectors group the factor model's specific-variance shrinkage; sectors
 	// and market caps are the exposure and hybrid methods' characteristics.
-	o.Groups = make(map[string]string, len(in.assets))
-	o.GroupsName = "sector"
-	o.Sectors = o.Groups
+	o.Factor.Groups = make(map[string]string, len(in.assets))
+	o.Factor.GroupsName = "sector"
+	o.Sectors = o.Factor.Groups
 	o.MarketCaps = make(map[string]float64, len(in.assets))
 	for _, a := range in.assets {
-		o.Groups[a.Asset] = a.Sector
+		o.Factor.Groups[a.Asset] = a.Sector
 		if !math.IsNaN(a.MarketCap) {
 			o.MarketCaps[a.Asset] = a.MarketCap
 		}

@@ -335,7 +335,7 @@ func loadModel(dir, demoReturns, demoAssets string) (*riskmodel.Model, error) {
 		groups[a.Asset] = a.Sector
 	}
 	t, _ := p.Dims()
-	m, _, err := riskmodel.Build(p, p.Date(t-1), &riskmodel.BuildOptions{Groups: groups, Seed: 1})
+	m, _, err := riskmodel.Build(p, p.Date(t-1), &riskmodel.BuildOptions{Factor: riskmodel.FactorOptions{Groups: groups}, Seed: 1})
 	return m, err
 }
 
