@@ -15,10 +15,14 @@ import (
 	"gonum.org/v1/gonum/mat"
 )
 
-// denseCSVBlock is the number of rows one worker formats at a time: large
-// enough to amortise the hand-off, small enough to bound the buffered bytes
-// (about 64 rows × 3000 values × 24 bytes ≈ 4.6 MB per block).
-const denseCSVBlock = 64
+// denseCSVBlockBytes bounds the formatted text of one block of rows (up to
+// 24 bytes a value), and denseCSVMaxRows the rows of a block: large enough to
+// amortise the hand-off, small enough that the blocks in flight (at most
+// 5 per core) stay a few tens of megabytes at any N.
+const (
+	denseCSVBlockBytes = 4 << 20
+	denseCSVMaxRows    = 64
+)
 
 // WriteDenseCSV writes the N×N covariance cov with asset labels as CSV:
 //
@@ -52,7 +56,8 @@ func WriteDenseCSV(w io.Writer, assets []string, cov mat.Symmetric) error {
 		return err
 	}
 	raw, dense := cov.(mat.RawSymmetricer)
-	blocks := (n + denseCSVBlock - 1) / denseCSVBlock
+	rows := min(denseCSVMaxRows, max(1, denseCSVBlockBytes/(24*n)))
+	blocks := (n + rows - 1) / rows
 	workers := min(runtime.GOMAXPROCS(0), blocks)
 	// Each block gets its own result channel so the writer takes blocks in
 	// order; the semaphore keeps the workers at most 2·workers blocks ahead
@@ -76,7 +81,7 @@ func WriteDenseCSV(w io.Writer, assets []string, cov mat.Symmetric) error {
 				case buf = <-free:
 				default:
 				}
-				results[b] <- formatDenseRows(buf[:0], assets, cov, raw, dense, b*denseCSVBlock, min(n, (b+1)*denseCSVBlock))
+				results[b] <- formatDenseRows(buf[:0], assets, cov, raw, dense, b*rows, min(n, (b+1)*rows))
 			}
 		}()
 	}

@@ -40,9 +40,9 @@ func labels(n int) []string {
 }
 
 func TestWriteDenseCSVParsesBackExactly(t *testing.T) {
-	// n = 150 spans several parallel blocks (denseCSVBlock rows each) and a
+	// n = 150 spans several parallel blocks (denseCSVMaxRows rows each) and a
 	// partial last one.
-	for _, n := range []int{1, 3, denseCSVBlock, 150} {
+	for _, n := range []int{1, 3, denseCSVMaxRows, 150} {
 		s := randomSym(n, uint64(n))
 		assets := labels(n)
 		var buf bytes.Buffer

@@ -103,7 +103,20 @@ func job(cfg config, stdout io.Writer, log *slog.Logger, bar *progress) error {
 		log.Warn("-window is longer than the history up to -asof: using what there is", "window", cfg.build.Window, "dates", wt, "from", win.Date(0).String())
 	}
 	store := riskmodel.Store{Dir: cfg.out}
-	prev := previous(store, log)
+	// A factor model is aligned with the previous one, so that is read
+	// first; a dense model is only compared with it, so it is read after the
+	// validation has released its Cholesky factor, and the two N×N matrices
+	// of validation and comparison are never held at once.
+	var prev *riskmodel.Model
+	if riskmodel.FactorForm(cfg.build.Method) {
+		prev = previous(store, log)
+	}
+	wt, wn := win.Dims()
+	need, err := checkMemory(cfg.build.Method, min(wt, cfg.build.Window), wn, prev)
+	if err != nil {
+		return badInput{err}
+	}
+	log.Info("memory estimate", "method", cfg.build.Method, "dates", min(wt, cfg.build.Window), "assets", wn, "bytes", need)
 	bar.step("build")
 	m, err := build(cfg, in, asof, prev, log)
 	if err != nil {
@@ -115,6 +128,9 @@ func job(cfg config, stdout io.Writer, log *slog.Logger, bar *progress) error {
 		return err
 	}
 	bar.step("compare")
+	if !riskmodel.FactorForm(cfg.build.Method) {
+		prev = previous(store, log)
+	}
 	if prev != nil {
 		if err := compare(in, prev, m, stdout, log); err != nil {
 			return err
