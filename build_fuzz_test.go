@@ -70,11 +70,11 @@ func FuzzBuild(f *testing.F) {
 		b := fuzzcheck.Bytes(data)
 		method := Methods[int(b.Next())%len(Methods)]
 		opts := &BuildOptions{
-			Method:       method,
-			Window:       int(b.Next() % 30),
-			MinObs:       int(b.Next() % 6),
-			Factor:       FactorOptions{K: int(b.Next() % 4)},
-			EWMA:         EWMAOptions{VolHalfLife: float64(b.Next() % 30), CorrHalfLife: float64(b.Next() % 30)},
+			Method: method,
+			Window: int(b.Next() % 30),
+			MinObs: int(b.Next() % 6),
+			Factor: FactorOptions{K: int(b.Next() % 4)},
+			EWMA:   EWMAOptions{VolHalfLife: float64(b.Next() % 30), CorrHalfLife: float64(b.Next() % 30)},
 		}
 		if c := b.Next(); c%4 == 0 {
 			opts.EWMA.NeweyWestLags = int(c/4%3) - 1
