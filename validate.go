@@ -60,6 +60,7 @@ func (v *Validation) OK() bool { return len(v.Problems) == 0 }
 // model was fitted on, so it is an in-sample sanity check.
 type Bias struct {
 	Observations int
+	First, Last  Date // the first and last dates of the returns
 	Value        float64
 	Lower, Upper float64
 	Inside       bool
@@ -214,8 +215,8 @@ func (v *Validation) bias(m *Model, r *Panel, portfolio map[string]float64) {
 		return
 	}
 	v.Bias = b
-	if !b.Inside {
-		v.problem("bias statistic %.3f is outside the band [%.3f, %.3f]", b.Value, b.Lower, b.Upper)
+	if p := b.Problem(); p != "" {
+		v.problem("%s", p)
 	}
 }
 
@@ -279,7 +280,7 @@ func BiasStatistic(m *Model, r *Panel, portfolio map[string]float64) (*Bias, err
 	for _, x := range z {
 		ss += (x - mean) * (x - mean)
 	}
-	b := &Bias{Observations: t, Value: math.Sqrt(ss / float64(t-1))}
+	b := &Bias{Observations: t, First: r.Date(0), Last: r.Date(t - 1), Value: math.Sqrt(ss / float64(t-1))}
 	half := math.Sqrt(2 / float64(t))
 	b.Lower, b.Upper = 1-half, 1+half
 	b.Inside = b.Value >= b.Lower && b.Value <= b.Upper

@@ -8,7 +8,8 @@ import (
 // Record returns the validation's results in words, for Model.Validation
 // and the model's model.json: finite, symmetric, positive_definite,
 // min_eigenvalue, max_eigenvalue, condition, uncovered (a count), the bias
-// statistic with its observations and band when there is one, and problems
+// statistic with its observations, band and the forecast's miss in words
+// (bias_forecast) when there is one, and problems
 // ("none" or the list joined by "; "). Numbers keep full precision.
 func (v *Validation) Record() map[string]string {
 	f := func(x float64) string { return strconv.FormatFloat(x, 'g', -1, 64) }
@@ -30,6 +31,7 @@ func (v *Validation) Record() map[string]string {
 		r["bias_observations"] = strconv.Itoa(b.Observations)
 		r["bias_band"] = "[" + f(b.Lower) + ", " + f(b.Upper) + "]"
 		r["bias_inside"] = strconv.FormatBool(b.Inside)
+		r["bias_forecast"] = b.Words()
 	}
 	return r
 }

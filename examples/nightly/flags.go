@@ -39,6 +39,7 @@ type config struct {
 	out, dense, logFormat string
 	build                 riskmodel.BuildOptions
 	biasWindow            int
+	failOnBias            bool
 	minCoverage           float64
 	maxCondition          float64
 
@@ -114,6 +115,7 @@ Flags:
 	fs.StringVar(&cfg.dense, "dense", "", "also write the dense N×N covariance (per period, full precision) to this CSV file")
 	fs.StringVar(&cfg.logFormat, "log-format", "text", "log format on stderr: text or json")
 	fs.IntVar(&cfg.biasWindow, "bias-window", 252, "trailing dates of the bias statistic")
+	fs.BoolVar(&cfg.failOnBias, "fail-on-bias", false, "refuse to publish when the test portfolio's bias statistic is outside its band (default: a warning)")
 	fs.Float64Var(&cfg.minCoverage, "min-coverage", 0.99, "smallest share of the benchmark's weight the model must cover")
 	fs.Float64Var(&cfg.maxCondition, "max-condition", riskmodel.DefaultMaxCondition, "largest acceptable condition number")
 	if err := fs.Parse(args); err != nil {

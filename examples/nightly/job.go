@@ -287,7 +287,8 @@ func isDataError(err error) bool {
 // (active weights against the benchmark; equal weights without holdings).
 // A structural failure, a condition number above the maximum or too little
 // benchmark weight covered stops the job; a bias statistic outside its
-// approximate band is a warning, since the window overlaps the fit.
+// approximate band is a warning in words (the window overlaps the fit), or a
+// refusal with -fail-on-bias.
 func validate(cfg config, in *inputs, m *riskmodel.Model, stdout io.Writer, log *slog.Logger) error {
 	start := time.Now()
 	trail, err := in.panel.Window(m.AsOf, cfg.biasWindow)
@@ -314,7 +315,13 @@ func validate(cfg config, in *inputs, m *riskmodel.Model, stdout io.Writer, log 
 	}
 	v := riskmodel.Validate(m, opts)
 	for _, p := range v.Problems {
-		log.Warn("validation", "problem", p)
+		if v.Bias == nil || p != v.Bias.Problem() {
+			log.Warn("validation", "problem", p)
+		}
+	}
+	test := testPortfolio(cfg, len(opts.Portfolio), len(m.Assets))
+	if b := v.Bias; b != nil && !b.Inside {
+		log.Warn("forecast bias", "portfolio", test, "forecast", b.Words())
 	}
 	var uncovered float64
 	for _, a := range v.Uncovered {
@@ -336,7 +343,7 @@ func validate(cfg config, in *inputs, m *riskmodel.Model, stdout io.Writer, log 
 	log.Info("validated model", attrs...)
 	m.Validation = v.Record()
 	m.Validation["benchmark_weight_covered"] = strconv.FormatFloat(coverage, 'g', -1, 64)
-	printValidation(stdout, v, coverage, len(bench) > 0)
+	printValidation(stdout, v, coverage, len(bench) > 0, test)
 	switch {
 	case !v.Finite:
 		return errors.New("model failed validation: the covariance has a non-finite element")
@@ -347,8 +354,18 @@ func validate(cfg config, in *inputs, m *riskmodel.Model, stdout io.Writer, log 
 	case coverage < cfg.minCoverage:
 		return fmt.Errorf("model failed validation: it covers %.2f %% of the benchmark's weight, below -min-coverage %.2f %% (%d names missing, first %s); lower -min-obs or -min-coverage",
 			100*coverage, 100*cfg.minCoverage, len(v.Uncovered), v.Uncovered[0])
+	case cfg.failOnBias && v.Bias != nil && !v.Bias.Inside:
+		return fmt.Errorf("model failed validation (-fail-on-bias): the %s %s", test, v.Bias.Words())
 	}
 	return nil
+}
+
+// testPortfolio names the bias statistic's test portfolio in words.
+func testPortfolio(cfg config, active, assets int) string {
+	if cfg.benchmark == "" {
+		return fmt.Sprintf("equal-weight portfolio of the model's %d assets", assets)
+	}
+	return fmt.Sprintf("active portfolio %s against %s (%d names)", filepath.Base(cfg.portfolio), filepath.Base(cfg.benchmark), active)
 }
 
 func compare(in *inputs, prev, m *riskmodel.Model, stdout io.Writer, log *slog.Logger) error {

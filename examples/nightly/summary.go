@@ -68,7 +68,7 @@ func printSummary(w io.Writer, asof riskmodel.Date, q *riskmodel.QualityReport, 
 	fmt.Fprintf(w, "  too few obs     %d assets with fewer than %d observations\n", len(q.Dropped), o.MinObs)
 }
 
-func printValidation(w io.Writer, v *riskmodel.Validation, coverage float64, hasBenchmark bool) {
+func printValidation(w io.Writer, v *riskmodel.Validation, coverage float64, hasBenchmark bool, test string) {
 	fmt.Fprintf(w, "Validation\n")
 	fmt.Fprintf(w, "  finite          %v\n", v.Finite)
 	fmt.Fprintf(w, "  pos. definite   %v (eigenvalues %.4g to %.4g)\n", v.PositiveDefinite, v.MinEigenvalue, v.MaxEigenvalue)
@@ -82,6 +82,8 @@ func printValidation(w io.Writer, v *riskmodel.Validation, coverage float64, has
 			state = "OUTSIDE"
 		}
 		fmt.Fprintf(w, "  bias statistic  %.3f over %d dates, %s the band [%.3f, %.3f]\n", b.Value, b.Observations, state, b.Lower, b.Upper)
+		fmt.Fprintf(w, "  test portfolio  %s\n", test)
+		fmt.Fprintf(w, "  forecast        %s\n", b.Miss())
 	}
 }
 
