@@ -16,6 +16,7 @@ const (
 	VariantRegime     = "regime"     // Adjust.Regime: volatility-regime multiplier
 	VariantHoldout    = "holdout"    // Criterion holdout-likelihood: K by held-out likelihood
 	VariantHoldoutMV  = "holdout-mv" // Criterion holdout-min-variance
+	VariantWeighted   = "weighted"   // Adjust.Weighted: factor space from volatility-weighted returns
 )
 
 // ParseVariant returns the BuildOptions of a variant name: a method of
@@ -44,6 +45,8 @@ func ParseVariant(name string) (BuildOptions, error) {
 			o.Adjust.Eigen = true
 		case p == VariantDispersion:
 			o.Adjust.Dispersion = true
+		case p == VariantWeighted:
+			o.Adjust.Weighted = true
 		case p == VariantRegime:
 			o.Adjust.Regime = true
 			isFactor = false
@@ -58,7 +61,7 @@ func ParseVariant(name string) (BuildOptions, error) {
 			}
 			o.Factor.K = k
 		default:
-			return bad("unknown switch %q (eigen, dispersion, regime, holdout, holdout-mv, k<N>)", p)
+			return bad("unknown switch %q (weighted, eigen, dispersion, regime, holdout, holdout-mv, k<N>)", p)
 		}
 		if isFactor && o.Method != MethodFactor {
 			return bad("%q needs the factor method", p)
@@ -91,6 +94,9 @@ func (o BuildOptions) adjustSettings(s map[string]string) {
 		if a.Dispersion {
 			s["dispersion"] = "true"
 		}
+		if a.Weighted {
+			s["weight_passes"] = strconv.Itoa(or(a.WeightPasses, factor.DefaultWeightPasses))
+		}
 		if a.Eigen {
 			s["eigen_sims"] = strconv.Itoa(or(a.EigenSims, factor.DefaultEigenSims))
 			s["eigen_scale"] = f(orf(a.EigenScale, factor.DefaultEigenScale))
@@ -120,6 +126,10 @@ func factorAdjustNotes(info factor.Info, rep *BuildReport) {
 	if h := info.Selection; h != nil && h.Holdout != nil {
 		rep.Notes = append(rep.Notes, fmt.Sprintf("held-out choice of K over the last %d dates: likelihood %d, minimum variance %d (Bai–Ng IC_p2 %d)",
 			h.Holdout.Dates, h.Holdout.Likelihood, h.Holdout.MinVarianceK, h.BaiNgP2))
+	}
+	if w := info.Weighting; w != nil {
+		rep.Notes = append(rep.Notes, fmt.Sprintf("factor space from volatility-weighted returns (%d passes, largest angle moved %.3f rad in the last; weights %.2f to %.2f × the median)",
+			w.Passes, w.Angles[len(w.Angles)-1], w.MinWeight, w.MaxWeight))
 	}
 	if d := info.Dispersion; d != nil {
 		rep.Notes = append(rep.Notes, fmt.Sprintf("leading eigenvector's dispersion shrunk by c = %.3f (moved %.3f rad)", d.Shrink, d.Angle))

@@ -22,7 +22,7 @@ func TestParseVariant(t *testing.T) {
 	o, err = riskmodel.ParseVariant("ledoit-wolf+regime")
 	require.NoError(t, err)
 	require.True(t, o.Adjust.Regime)
-	for _, bad := range []string{"nope", "factor+x", "ledoit-wolf+eigen", "factor+k0"} {
+	for _, bad := range []string{"nope", "factor+x", "ledoit-wolf+eigen", "ledoit-wolf+weighted", "factor+k0"} {
 		_, err := riskmodel.ParseVariant(bad)
 		require.ErrorIs(t, err, riskmodel.ErrMethod, bad)
 	}
@@ -35,19 +35,21 @@ func TestBuildAdjustments(t *testing.T) {
 	p := smallDemo(t).Panel
 	tt, _ := p.Dims()
 	asof := p.Date(tt - 1)
-	o, err := riskmodel.ParseVariant("factor+holdout+eigen+dispersion+regime")
+	o, err := riskmodel.ParseVariant("factor+holdout+weighted+eigen+dispersion+regime")
 	require.NoError(t, err)
+	require.True(t, o.Adjust.Weighted)
 	o.Window = 300
 	m, rep, err := riskmodel.Build(p, asof, &o)
 	require.NoError(t, err)
 	info := m.Factor.Info()
 	require.NotNil(t, info.Selection.Holdout)
 	require.NotNil(t, info.Eigen)
+	require.NotNil(t, info.Weighting)
 	require.NotNil(t, info.Dispersion)
 	require.NotNil(t, info.FactorRegime)
 	require.NotNil(t, info.SpecificRegime)
 	require.Len(t, rep.Notes, len(m.Notes))
-	for _, k := range []string{"criterion", "eigen_sims", "eigen_scale", "dispersion", "regime_half_life"} {
+	for _, k := range []string{"criterion", "eigen_sims", "eigen_scale", "dispersion", "weight_passes", "regime_half_life"} {
 		require.Contains(t, m.Settings, k)
 	}
 	plain, _, err := riskmodel.Build(p, asof, &riskmodel.BuildOptions{Method: riskmodel.MethodLedoitWolf, Window: 300})

@@ -12,8 +12,8 @@ import (
 // Adjustments switch on Fit's corrections of the estimate for the risk of
 // optimized portfolios and for volatility regimes. The zero value applies
 // none; each is reported in Info when applied. Fit applies them in this
-// order: dispersion (on the loadings, before F is estimated), eigen (on F),
-// regime (on F and D).
+// order: weighted (the factor space), dispersion (on the loadings, before F
+// is estimated), eigen (on F), regime (on F and D).
 type Adjustments struct {
 	// Dispersion shrinks the leading eigenvector's loadings toward their
 	// mean (DispersionCorrect), re-orthonormalizes the other loadings
@@ -34,6 +34,11 @@ type Adjustments struct {
 	// half-life RegimeHalfLife (0: DefaultRegimeHalfLife).
 	Regime         bool
 	RegimeHalfLife float64
+	// Weighted re-estimates the factor space from the returns divided by
+	// each asset's residual volatility, WeightPasses times (0:
+	// DefaultWeightPasses), see Weighting; it runs first, on the loadings.
+	Weighted     bool
+	WeightPasses int
 }
 
 // resolved returns a with the defaults of the switched-on corrections
@@ -47,6 +52,9 @@ func (a Adjustments) resolved() Adjustments {
 			a.EigenScale = DefaultEigenScale
 		}
 	}
+	if a.Weighted && a.WeightPasses == 0 {
+		a.WeightPasses = DefaultWeightPasses
+	}
 	if a.Regime && a.RegimeHalfLife == 0 {
 		a.RegimeHalfLife = DefaultRegimeHalfLife
 	}
@@ -55,6 +63,8 @@ func (a Adjustments) resolved() Adjustments {
 
 func (a Adjustments) validate() error {
 	switch {
+	case a.WeightPasses < 0:
+		return fmt.Errorf("%w: WeightPasses = %d", ErrSettings, a.WeightPasses)
 	case a.EigenSims < 0 || a.EigenSims == 1:
 		return fmt.Errorf("%w: EigenSims = %d", ErrSettings, a.EigenSims)
 	case !(a.EigenScale >= 0) || math.IsInf(a.EigenScale, 0):

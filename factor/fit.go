@@ -164,6 +164,9 @@ func Fit(x mat.Matrix, s Settings) (*Model, error) {
 	// Everything is estimated on the unrotated factors; the alignment comes
 	// last and only re-expresses the result, so Σ does not depend on whether
 	// a previous model was given.
+	if r.Adjust.Weighted && k > 0 {
+		p, info.Weighting = d.weighted(r, p, k)
+	}
 	b, ret := p.v, factorReturns(p)
 	if r.Adjust.Dispersion && k > 0 {
 		ret, info.Dispersion = d.dispersion(r, b, p.sq)

@@ -47,6 +47,7 @@ type Info struct {
 	// The corrections of Settings.Adjust, nil when not applied: the
 	// dispersion bias of the leading eigenvector, the eigen-adjustment of F
 	// and the volatility-regime multipliers of F and D.
+	Weighting      *Weighting
 	Dispersion     *Dispersion
 	Eigen          *EigenAdjustment
 	FactorRegime   *Regime
@@ -121,6 +122,11 @@ func (in Info) clone() Info {
 	if in.Dispersion != nil {
 		d := *in.Dispersion
 		out.Dispersion = &d
+	}
+	if in.Weighting != nil {
+		w := *in.Weighting
+		w.Angles = slices.Clone(w.Angles)
+		out.Weighting = &w
 	}
 	out.Eigen = in.Eigen.clone()
 	out.FactorRegime = in.FactorRegime.clone()

@@ -1,0 +1,177 @@
+package factor
+
+import (
+	"math"
+	"slices"
+
+	"gonum.org/v1/gonum/mat"
+
+	"github.com/riskmodel/riskmodel/internal/dense"
+)
+
+// DefaultWeightPasses is the number of reweighted principal-component passes
+// of Adjustments.Weighted when WeightPasses is zero. Connor & Korajczyk
+// (1988) rescale once; in the package's simulations a second pass moved the
+// factor space by under 0.005 rad after a first pass of 0.18–0.27 rad
+// (TestWeightedOnHeteroskedasticMarkets logs Weighting.Angles), so one pass
+// is the default.
+const DefaultWeightPasses = 1
+
+// Weighting reports Adjustments.Weighted: the passes made and, for each
+// pass, the largest principal angle (radians) between the factor space
+// before and after it, so a user sees whether the reweighting converged.
+type Weighting struct {
+	Passes int
+	Angles []float64
+	// MinWeight and MaxWeight are the smallest and largest specific
+	// volatilities the last pass divided by, relative to their median.
+	MinWeight, MaxWeight float64
+}
+
+// weighted replaces the K principal components p of the working data by
+// those of the data with each asset's column divided by its residual
+// volatility under the current fit (Adjustments.Weighted):
+//
+//	σ̂_j² = mean over observed t of (z_tj − (U·S·Vᵀ)_tj)²,   Z̃ = Z·diag(1/σ̂),
+//	Z̃ ≈ Ũ·S̃·Ṽᵀ (rank K),   span B = span diag(σ̂)·Ṽ.
+//
+// The K-dimensional factor space is then expressed in Fit's usual form: an
+// orthonormal basis B of it (QR), rotated to the principal axes of the
+// returns inside it (the eigenvectors of BᵀZᵀZB), so the loadings stay
+// orthonormal, the factors are ordered by variance and the dispersion
+// correction sees the leading one first. Under heteroskedastic specific
+// risk the unweighted components lean toward the noisiest assets; dividing
+// by σ̂ is the generalized-least-squares step of Connor & Korajczyk (1988)
+// and the first step of the maximum-likelihood estimator of Bai & Li
+// (2012). Cost per pass: one principal-components decomposition of T×N and
+// O(T·N·K) products.
+func (d *data) weighted(r resolved, p pcs, k int) (pcs, *Weighting) {
+	t, n := d.z.Dims()
+	passes := r.Adjust.WeightPasses
+	if passes == 0 {
+		passes = DefaultWeightPasses
+	}
+	missing := make([]bool, t*n)
+	for _, pos := range d.missing {
+		missing[pos] = true
+	}
+	rep := &Weighting{Passes: passes}
+	vol := make([]float64, n)
+	scaled := &data{z: mat.NewDense(t, n, nil)}
+	fit := mat.NewDense(t, n, nil)
+	for pass := 0; pass < passes; pass++ {
+		// Residual volatility of each asset under the current fit.
+		dense.Mul(fit, factorReturns(p), p.v.T())
+		for j := 0; j < n; j++ {
+			var ss float64
+			obs := 0
+			for i := 0; i < t; i++ {
+				if missing[i*n+j] {
+					continue
+				}
+				e := d.z.At(i, j) - fit.At(i, j)
+				ss += e * e
+				obs++
+			}
+			vol[j] = math.Sqrt(ss / float64(max(obs, 1)))
+		}
+		// A floor at 1 % of the median volatility keeps an asset the fit
+		// explains exactly (or a constant one) from dominating.
+		med := median(vol)
+		floor := 0.01 * med
+		for j := range vol {
+			vol[j] = math.Max(vol[j], floor)
+		}
+		for i := 0; i < t; i++ {
+			src, dst := d.z.RawRowView(i), scaled.z.RawRowView(i)
+			for j := range dst {
+				dst[j] = src[j] / vol[j]
+			}
+		}
+		pw := truncate(scaled.decompose(r, k, r.PowerIters, r.Seed, nil), k)
+		b := mat.NewDense(n, k, nil)
+		for j := 0; j < n; j++ {
+			src, dst := pw.v.RawRowView(j), b.RawRowView(j)
+			for c := range dst {
+				dst[c] = src[c] * vol[j]
+			}
+		}
+		orthonormalize(b)
+		next := principalAxes(d.z, b, p.sq)
+		rep.Angles = append(rep.Angles, largestAngle(p.v, next.v))
+		p = next
+		if pass == passes-1 && med > 0 {
+			rep.MinWeight, rep.MaxWeight = slices.Min(vol)/med, slices.Max(vol)/med
+		}
+	}
+	return p, rep
+}
+
+// principalAxes expresses the factor space of the orthonormal N×K basis b
+// as principal components of z: R = Z·B, RᵀR = W·S²·Wᵀ (descending),
+// U = R·W·S⁻¹, V = B·W. The returned spectrum is sq with its first K
+// entries replaced by S², the variance the factor space captures.
+func principalAxes(z, b *mat.Dense, sq []float64) pcs {
+	t, _ := z.Dims()
+	n, k := b.Dims()
+	ret := dense.Mul(mat.NewDense(t, k, nil), z, b)
+	g := mat.NewSymDense(k, nil)
+	g.SymOuterK(1, ret.T())
+	var es mat.EigenSym
+	if !es.Factorize(g, true) {
+		panic("factor: eigendecomposition of the factor space failed")
+	}
+	vals := es.Values(nil)
+	var w mat.Dense
+	es.VectorsTo(&w)
+	// Descending order.
+	order := make([]int, k)
+	for i := range order {
+		order[i] = k - 1 - i
+	}
+	wd := mat.NewDense(k, k, nil)
+	s := make([]float64, k)
+	for c, o := range order {
+		for i := 0; i < k; i++ {
+			wd.Set(i, c, w.At(i, o))
+		}
+		s[c] = math.Sqrt(math.Max(vals[o], 0))
+	}
+	sq = slices.Clone(sq)
+	for c := 0; c < k && c < len(sq); c++ {
+		sq[c] = s[c] * s[c]
+	}
+	out := pcs{u: dense.Mul(mat.NewDense(t, k, nil), ret, wd), v: dense.Mul(mat.NewDense(n, k, nil), b, wd), s: s, sq: sq}
+	for c := 0; c < k; c++ {
+		if s[c] > 0 {
+			col := out.u.ColView(c).(*mat.VecDense)
+			col.ScaleVec(1/s[c], col)
+		}
+	}
+	fixSigns(out)
+	return out
+}
+
+// largestAngle returns the largest principal angle between the column
+// spaces of the orthonormal a and b: arccos of the smallest singular value
+// of aᵀb.
+func largestAngle(a, b *mat.Dense) float64 {
+	var m mat.Dense
+	m.Mul(a.T(), b)
+	var svd mat.SVD
+	if !svd.Factorize(&m, mat.SVDNone) {
+		return math.NaN()
+	}
+	v := svd.Values(nil)
+	return math.Acos(math.Min(1, v[len(v)-1]))
+}
+
+func median(x []float64) float64 {
+	s := slices.Clone(x)
+	slices.Sort(s)
+	n := len(s)
+	if n%2 == 1 {
+		return s[n/2]
+	}
+	return (s[n/2-1] + s[n/2]) / 2
+}
