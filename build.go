@@ -101,6 +101,9 @@ type FactorOptions struct {
 	// Criterion names the factor-count criterion (factor.Criterion's
 	// String, e.g. "holdout-likelihood"); "" means Bai & Ng's IC_p2.
 	Criterion string
+	// HoldoutBest makes the holdout criteria pick their best k rather than
+	// the one-standard-error rule's (factor.Settings.HoldoutBest).
+	HoldoutBest bool
 	// SpecificHalfLife weights the residual variances; default
 	// EWMA.VolHalfLife.
 	SpecificHalfLife float64
@@ -302,6 +305,7 @@ func buildFactor(m *Model, win *Panel, o BuildOptions, rep *BuildReport) error {
 		SpecificHalfLife: o.Factor.SpecificHalfLife,
 		Assets:           m.Assets,
 		Adjust:           o.Adjust,
+		HoldoutBest:      o.Factor.HoldoutBest,
 	}
 	var err error
 	if s.Criterion, err = o.criterion(); err != nil {

@@ -17,6 +17,7 @@ const (
 	VariantHoldout    = "holdout"    // Criterion holdout-likelihood: K by held-out likelihood
 	VariantHoldoutMV  = "holdout-mv" // Criterion holdout-min-variance
 	VariantWeighted   = "weighted"   // Adjust.Weighted: factor space from volatility-weighted returns
+	VariantBest       = "best"       // Factor.HoldoutBest: the holdout criteria's best k
 )
 
 // ParseVariant returns the BuildOptions of a variant name: a method of
@@ -47,6 +48,8 @@ func ParseVariant(name string) (BuildOptions, error) {
 			o.Adjust.Dispersion = true
 		case p == VariantWeighted:
 			o.Adjust.Weighted = true
+		case p == VariantBest:
+			o.Factor.HoldoutBest = true
 		case p == VariantRegime:
 			o.Adjust.Regime = true
 			isFactor = false
@@ -61,7 +64,7 @@ func ParseVariant(name string) (BuildOptions, error) {
 			}
 			o.Factor.K = k
 		default:
-			return bad("unknown switch %q (weighted, eigen, dispersion, regime, holdout, holdout-mv, k<N>)", p)
+			return bad("unknown switch %q (weighted, eigen, dispersion, regime, holdout, holdout-mv, best, k<N>)", p)
 		}
 		if isFactor && o.Method != MethodFactor {
 			return bad("%q needs the factor method", p)
@@ -90,6 +93,9 @@ func (o BuildOptions) adjustSettings(s map[string]string) {
 	if o.Method == MethodFactor {
 		if o.Factor.Criterion != "" {
 			s["criterion"] = o.Factor.Criterion
+		}
+		if o.Factor.HoldoutBest {
+			s["holdout_rule"] = "best"
 		}
 		if a.Dispersion {
 			s["dispersion"] = "true"
@@ -124,8 +130,8 @@ func orf(v, d float64) float64 {
 // factorAdjustNotes records the corrections Fit applied.
 func factorAdjustNotes(info factor.Info, rep *BuildReport) {
 	if h := info.Selection; h != nil && h.Holdout != nil {
-		rep.Notes = append(rep.Notes, fmt.Sprintf("held-out choice of K over the last %d dates: likelihood %d, minimum variance %d (Bai–Ng IC_p2 %d)",
-			h.Holdout.Dates, h.Holdout.Likelihood, h.Holdout.MinVarianceK, h.BaiNgP2))
+		rep.Notes = append(rep.Notes, fmt.Sprintf("held-out choice of K over the last %d dates: likelihood %d (best %d), minimum variance %d (best %d), Bai–Ng IC_p2 %d",
+			h.Holdout.Dates, h.Holdout.Likelihood, h.Holdout.BestLikelihood, h.Holdout.MinVarianceK, h.Holdout.BestMinVariance, h.BaiNgP2))
 	}
 	if w := info.Weighting; w != nil {
 		rep.Notes = append(rep.Notes, fmt.Sprintf("factor space from volatility-weighted returns (%d passes, largest angle moved %.3f rad in the last; weights %.2f to %.2f × the median)",

@@ -22,6 +22,7 @@ func BenchmarkAdjust(b *testing.B) {
 		{name: "dispersion", adj: Adjustments{Dispersion: true}},
 		{name: "eigen", adj: Adjustments{Eigen: true}},
 		{name: "regime", adj: Adjustments{Regime: true}},
+		{name: "weighted", adj: Adjustments{Weighted: true}},
 		{name: "all", adj: Adjustments{Dispersion: true, Eigen: true, Regime: true}},
 		{name: "holdout", crit: HoldoutLikelihood},
 	} {

@@ -146,10 +146,13 @@ func Fit(x mat.Matrix, s Settings) (*Model, error) {
 	info.Selection = &sel
 	k := r.K
 	if k > 0 {
-		info.Reason = fmt.Sprintf("fixed by caller (%s would choose %d over k = 0..%d)", r.Criterion, sel.chosen(r.Criterion), sel.MaxFactors)
+		info.Reason = fmt.Sprintf("fixed by caller (%s would choose %d over k = 0..%d)", r.Criterion, sel.chosen(r.Criterion, r.HoldoutBest), sel.MaxFactors)
 	} else {
-		k = sel.chosen(r.Criterion)
+		k = sel.chosen(r.Criterion, r.HoldoutBest)
 		info.Reason = fmt.Sprintf("%s choice over k = 0..%d", r.Criterion, sel.MaxFactors)
+		if r.HoldoutBest && sel.Holdout != nil {
+			info.Reason = fmt.Sprintf("%s choice (best held-out score) over k = 0..%d", r.Criterion, sel.MaxFactors)
+		}
 	}
 	if k > 0 && !(p.sq[k-1] > 1e-10*p.sq[0]) {
 		return nil, fmt.Errorf("%w: K = %d but the data have numerical rank below it", ErrTooManyFactors, k)

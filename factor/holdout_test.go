@@ -22,6 +22,12 @@ const heteroSpread = 0.3
 // specific volatilities 2 %·exp(heteroSpread·N(0,1)), so weak factors sit close to
 // the noisiest assets' variance. Returns the data and the true covariance.
 func heteroMarket(seed uint64, t, n, k int) market {
+	return spreadMarket(seed, t, n, k, heteroSpread)
+}
+
+// spreadMarket is heteroMarket with the log standard deviation of the
+// specific volatilities given.
+func spreadMarket(seed uint64, t, n, k int, spread float64) market {
 	rng := rand.New(rand.NewPCG(seed, 13))
 	m := market{x: mat.NewDense(t, n, nil), b: mat.NewDense(n, k, nil), f: mat.NewSymDense(k, nil), d: make([]float64, n)}
 	vol := make([]float64, k)
@@ -37,7 +43,7 @@ func heteroMarket(seed uint64, t, n, k int) market {
 			}
 			m.b.Set(i, j, v)
 		}
-		s := 0.02 * math.Exp(heteroSpread*rng.NormFloat64())
+		s := 0.02 * math.Exp(spread*rng.NormFloat64())
 		m.d[i] = s * s
 	}
 	fr := make([]float64, k)

@@ -72,6 +72,7 @@ type Params struct {
 	NoSpecificShrink bool
 	SpecificFloor    float64 // the requested floor; 0 means the default rule
 	HoldoutDates     int     // the requested holdout; 0 means the default share
+	HoldoutBest      bool    // the holdout criteria pick their best k, not the one-standard-error rule's
 	Adjust           Adjustments
 }
 

@@ -92,7 +92,7 @@ func (s Selection) clone() Selection {
 }
 
 // chosen returns the number of factors criterion c gives.
-func (s *Selection) chosen(c Criterion) int {
+func (s *Selection) chosen(c Criterion, best bool) int {
 	switch c {
 	case BaiNgICp1:
 		return s.BaiNgP1
@@ -108,8 +108,13 @@ func (s *Selection) chosen(c Criterion) int {
 		if s.Holdout == nil {
 			return s.BaiNgP2
 		}
-		if c == HoldoutLikelihood {
+		switch {
+		case c == HoldoutLikelihood && best:
+			return s.Holdout.BestLikelihood
+		case c == HoldoutLikelihood:
 			return s.Holdout.Likelihood
+		case best:
+			return s.Holdout.BestMinVariance
 		}
 		return s.Holdout.MinVarianceK
 	}

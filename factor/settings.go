@@ -60,6 +60,14 @@ type Settings struct {
 	// HoldoutLikelihood and HoldoutMinVariance; 0 means DefaultHoldoutShare
 	// of the dates.
 	HoldoutDates int
+	// HoldoutBest makes the holdout criteria pick the k with the best
+	// held-out score (Holdout.BestLikelihood, Holdout.BestMinVariance)
+	// instead of the one-standard-error rule's smallest k within one
+	// standard error of it. The rule buys parsimony; an optimizer pays more
+	// for a missing factor (risk it cannot see and so does not hedge) than
+	// for a superfluous one (a small-variance direction), so risk forecasts
+	// for optimized portfolios may prefer the plain minimizer.
+	HoldoutBest bool
 	// MaxFactors is the largest k the criteria consider; 0 means K when K is
 	// given, otherwise min(20, min(N, T) − 1).
 	MaxFactors int
@@ -187,6 +195,6 @@ func (r resolved) params() Params {
 		CorrHalfLife: r.Covariance.CorrHalfLife, NeweyWestLags: r.Covariance.NeweyWestLags,
 		SpecificHalfLife: r.SpecificHalfLife, SpecificShrink: r.SpecificShrink,
 		NoSpecificShrink: r.NoSpecificShrink, SpecificFloor: r.SpecificFloor,
-		HoldoutDates: r.HoldoutDates, Adjust: r.Adjust.resolved(),
+		HoldoutDates: r.HoldoutDates, HoldoutBest: r.HoldoutBest, Adjust: r.Adjust.resolved(),
 	}
 }
