@@ -110,3 +110,20 @@ func subspaceDistance(a, b mat.Matrix) float64 {
 	}
 	return math.Sqrt(s)
 }
+
+// The randomized route's weighted pass (a warm start and one power
+// iteration) finds the exact route's weighted factor space.
+func TestWeightedRandomizedMatchesExact(t *testing.T) {
+	mk := spreadMarket(4, 300, 500, 5, 0.8)
+	fit := func(solver Solver) *Model {
+		s := baseSettings()
+		s.K, s.Solver, s.Adjust.Weighted = 5, solver, true
+		m, err := Fit(mk.x, s)
+		require.NoError(t, err)
+		return m
+	}
+	exact, rnd := fit(SolverGram), fit(SolverRandomized)
+	d := subspaceDistance(exact.LoadingsTo(nil), rnd.LoadingsTo(nil))
+	t.Logf("distance between the exact and randomized weighted factor spaces %.2e", d)
+	require.Less(t, d, 5e-3)
+}

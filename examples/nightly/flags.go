@@ -40,6 +40,7 @@ type config struct {
 	build                 riskmodel.BuildOptions
 	biasWindow            int
 	failOnBias            bool
+	holdoutRule           string
 	minCoverage           float64
 	maxCondition          float64
 
@@ -102,7 +103,8 @@ Flags:
 	fs.IntVar(&b.Factor.MaxFactors, "max-factors", 0, "largest number of factors the criterion considers (0: package default)")
 	seed := fs.Uint64("seed", 1, "seed of the randomized principal components")
 	fs.StringVar(&b.Factor.Criterion, "criterion", defaultCriterion, "factor-count criterion: bai-ng-icp2, bai-ng-icp1, ahn-horenstein-er, ahn-horenstein-gr, onatski-ed, marchenko-pastur, holdout-likelihood, holdout-min-variance")
-	adjust := fs.String("adjust", "default", "comma-separated corrections: eigen, dispersion (factor), regime (every method); none for no correction; default: "+defaultFactorAdjust+" for factor, none for the others")
+	fs.StringVar(&cfg.holdoutRule, "holdout-rule", defaultHoldoutRule, "how the holdout criteria pick K: one-se (the smallest k within one standard error of the best) or best (the best held-out score)")
+	adjust := fs.String("adjust", "default", "comma-separated corrections: weighted, eigen, dispersion (factor), regime (every method); none for no correction; default: "+defaultFactorAdjust+" for factor, none for the others")
 	fs.Float64Var(&b.Adjust.RegimeHalfLife, "regime-half-life", 0, "half-life in dates of the volatility-regime multiplier (0: package default)")
 	defOut, defErr := defaultStore()
 	fs.StringVar(&cfg.out, "out", defOut, "model store folder (dated model folders and a 'current' link)")
@@ -143,6 +145,13 @@ Flags:
 		b.Adjust = v.Adjust
 		b.Adjust.RegimeHalfLife = hl
 	}
+	switch cfg.holdoutRule {
+	case "one-se":
+	case "best":
+		b.Factor.HoldoutBest = true
+	default:
+		return cfg, badInput{fmt.Errorf("-holdout-rule must be one-se or best, got %q", cfg.holdoutRule)}
+	}
 	if fs.NArg() > 0 {
 		return cfg, badInput{fmt.Errorf("unexpected argument %q", fs.Arg(0))}
 	}
@@ -157,6 +166,7 @@ Flags:
 // (README, "Risk of optimized portfolios").
 const (
 	defaultCriterion    = "holdout-likelihood"
+	defaultHoldoutRule  = "one-se"
 	defaultFactorAdjust = "dispersion"
 	defaultDenseAdjust  = "" // the dense methods stay the published estimators
 )
