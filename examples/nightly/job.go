@@ -93,10 +93,11 @@ func job(cfg config, stdout io.Writer, log *slog.Logger, bar *progress) error {
 		return err
 	}
 	quality(cfg, in, win, asof, stdout, log)
-	if err := checkUnits(cfg, win); err != nil {
+	w, err := checkUnits(cfg, win)
+	if err != nil {
 		return err
 	}
-	if w := unitsWarning(cfg, win); w != "" {
+	if w != "" {
 		log.Warn("-accept-implausible: building from returns that fail the units check", "check", oneLine(w))
 	}
 	if wt, _ := win.Dims(); wt < cfg.build.Window {
