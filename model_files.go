@@ -442,13 +442,22 @@ func loadFactor(man manifest, arows []assetRow, get func(string) ([]byte, error)
 	return f, nil
 }
 
+// loadDense reads covariance.parquet into an N×N matrix, checking that
+// every element of the upper triangle appears exactly once. A file as
+// saveDenseFiles writes it is read by columns (eachDenseColumns); any other
+// valid layout by rows.
 func loadDense(n int, get func(string) ([]byte, error), bad func(string, ...any) error) (*mat.SymDense, error) {
+	f, err := openModelParquet(denseCovFile, get)
+	if err != nil {
+		return nil, err
+	}
 	s := mat.NewSymDense(n, nil)
+	raw := s.RawSymmetric()
 	want := n * (n + 1) / 2
 	seen := make([]uint64, (want+63)/64) // a bit per element of the upper triangle
 	count := 0
-	err := eachParquetRow(denseCovFile, get, func(r denseCovRow) error {
-		i, j := int(r.Row), int(r.Col)
+	visit := func(r, c int32, v float64) error {
+		i, j := int(r), int(c)
 		if i < 0 || j < i || j >= n {
 			return bad("%s: element (%d, %d) outside the upper triangle of %d assets", denseCovFile, i, j, n)
 		}
@@ -458,9 +467,18 @@ func loadDense(n int, get func(string) ([]byte, error), bad func(string, ...any)
 		}
 		seen[at/64] |= 1 << (at % 64)
 		count++
-		s.SetSym(i, j, r.Covariance)
+		raw.Data[i*raw.Stride+j] = v
 		return nil
-	})
+	}
+	err = eachDenseColumns(f, visit)
+	if errors.Is(err, errNotPlain) {
+		clear(raw.Data)
+		clear(seen)
+		count = 0
+		err = eachRow(f, denseCovFile, func(r denseCovRow) error { return visit(r.Row, r.Col, r.Covariance) })
+	} else if errors.Is(err, ErrInvalidModel) {
+		err = fmt.Errorf("riskmodel: load model: %s: %w", denseCovFile, err)
+	}
 	if err != nil {
 		return nil, err
 	}
@@ -479,15 +497,27 @@ func getParquet[T any](name string, get func(string) ([]byte, error)) ([]T, erro
 // eachParquetRow calls fn on every row of the named file, reading 8192 rows
 // at a time, and stops at fn's first error.
 func eachParquetRow[T any](name string, get func(string) ([]byte, error), fn func(T) error) error {
-	data, err := get(name)
+	f, err := openModelParquet(name, get)
 	if err != nil {
 		return err
 	}
-	rd := bytes.NewReader(data)
-	f, err := parquet.OpenFile(rd, int64(len(data)))
+	return eachRow(f, name, fn)
+}
+
+func openModelParquet(name string, get func(string) ([]byte, error)) (*parquet.File, error) {
+	data, err := get(name)
 	if err != nil {
-		return fmt.Errorf("riskmodel: load model: %w: %s: %v", ErrInvalidModel, name, err)
+		return nil, err
 	}
+	f, err := parquet.OpenFile(bytes.NewReader(data), int64(len(data)))
+	if err != nil {
+		return nil, fmt.Errorf("riskmodel: load model: %w: %s: %v", ErrInvalidModel, name, err)
+	}
+	return f, nil
+}
+
+// eachRow is eachParquetRow on an open file.
+func eachRow[T any](f *parquet.File, name string, fn func(T) error) error {
 	r := parquet.NewGenericReader[T](f)
 	defer r.Close()
 	buf := make([]T, 8192)
