@@ -312,6 +312,34 @@ func LoadModel(dir string) (m *Model, err error) {
 		}
 		return data, nil
 	}
+	// open is get for the large dense covariance: it checks the file's
+	// checksum by reading it through once and hands back the open file, so
+	// that the Parquet reader reads it in place instead of from a copy in
+	// memory. The caller closes the file.
+	open := func(name string) (*os.File, int64, error) {
+		want, ok := man.Files[name]
+		if !ok {
+			return nil, 0, bad("%s is not listed in %s", name, manifestFile)
+		}
+		f, err := os.Open(filepath.Join(dir, name))
+		if err != nil {
+			return nil, 0, fmt.Errorf("riskmodel: load model: %w", err)
+		}
+		h := sha256.New()
+		size, err := io.Copy(h, f)
+		if err == nil {
+			_, err = f.Seek(0, io.SeekStart)
+		}
+		if err != nil {
+			f.Close()
+			return nil, 0, fmt.Errorf("riskmodel: load model: %w", err)
+		}
+		if hex.EncodeToString(h.Sum(nil)) != want {
+			f.Close()
+			return nil, 0, bad("%s does not match its checksum (truncated or altered)", name)
+		}
+		return f, size, nil
+	}
 	asof, err := ParseDate(man.AsOf)
 	if err != nil {
 		return nil, bad("as_of: %v", err)
@@ -339,7 +367,7 @@ func LoadModel(dir string) (m *Model, err error) {
 	case "factor":
 		m.Factor, err = loadFactor(man, arows, get, bad)
 	case "dense":
-		m.Dense, err = loadDense(len(arows), get, bad)
+		m.Dense, err = loadDense(len(arows), open, bad)
 	default:
 		err = bad("kind %q", man.Kind)
 	}
@@ -446,10 +474,15 @@ func loadFactor(man manifest, arows []assetRow, get func(string) ([]byte, error)
 // every element of the upper triangle appears exactly once. A file as
 // saveDenseFiles writes it is read by columns (eachDenseColumns); any other
 // valid layout by rows.
-func loadDense(n int, get func(string) ([]byte, error), bad func(string, ...any) error) (*mat.SymDense, error) {
-	f, err := openModelParquet(denseCovFile, get)
+func loadDense(n int, open func(string) (*os.File, int64, error), bad func(string, ...any) error) (*mat.SymDense, error) {
+	file, size, err := open(denseCovFile)
 	if err != nil {
 		return nil, err
+	}
+	defer file.Close()
+	f, err := parquet.OpenFile(file, size)
+	if err != nil {
+		return nil, fmt.Errorf("riskmodel: load model: %w: %s: %v", ErrInvalidModel, denseCovFile, err)
 	}
 	s := mat.NewSymDense(n, nil)
 	raw := s.RawSymmetric()

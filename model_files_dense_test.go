@@ -4,6 +4,8 @@ import (
 	"bytes"
 	"fmt"
 	"math"
+	"os"
+	"path/filepath"
 	"testing"
 
 	"github.com/parquet-go/parquet-go"
@@ -31,9 +33,15 @@ func denseFile[T any](t *testing.T, s *mat.SymDense, row func(i, j int, v float6
 	return buf.Bytes()
 }
 
-func loadDenseBytes(n int, data []byte) (*mat.SymDense, error) {
+func loadDenseBytes(t *testing.T, n int, data []byte) (*mat.SymDense, error) {
+	t.Helper()
+	path := filepath.Join(t.TempDir(), denseCovFile)
+	require.NoError(t, os.WriteFile(path, data, 0o644))
 	bad := func(format string, args ...any) error { return fmt.Errorf(format, args...) }
-	return loadDense(n, func(string) ([]byte, error) { return data, nil }, bad)
+	return loadDense(n, func(string) (*os.File, int64, error) {
+		f, err := os.Open(path)
+		return f, int64(len(data)), err
+	}, bad)
 }
 
 // TestLoadDenseColumnsAndRows checks the column reader against the generic
@@ -80,7 +88,7 @@ func TestLoadDenseColumnsAndRows(t *testing.T) {
 				require.NoError(t, err)
 				require.ErrorIs(t, eachDenseColumns(f, func(int32, int32, float64) error { return nil }), errNotPlain)
 			}
-			got, err := loadDenseBytes(n, data)
+			got, err := loadDenseBytes(t, n, data)
 			require.NoError(t, err)
 			require.Equal(t, symData(s), symData(got))
 		})
@@ -100,11 +108,11 @@ func TestLoadDenseColumnsRefuses(t *testing.T) {
 		"outside the upper triangle": func(i, j int, v float64) denseCovRow { return denseCovRow{Row: int32(j), Col: int32(i), Covariance: v} },
 	} {
 		t.Run(want, func(t *testing.T) {
-			_, err := loadDenseBytes(n, denseFile(t, s, edit))
+			_, err := loadDenseBytes(t, n, denseFile(t, s, edit))
 			require.ErrorContains(t, err, want)
 		})
 	}
-	_, err := loadDenseBytes(n+1, denseFile(t, s, func(i, j int, v float64) denseCovRow {
+	_, err := loadDenseBytes(t, n+1, denseFile(t, s, func(i, j int, v float64) denseCovRow {
 		return denseCovRow{Row: int32(i), Col: int32(j), Covariance: v}
 	}))
 	require.ErrorContains(t, err, "has 15 elements, want 21")

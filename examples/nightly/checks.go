@@ -131,7 +131,7 @@ func frequency(cfg config, p *riskmodel.Panel, log *slog.Logger) (periods, error
 // warning instead (empty when the returns pass).
 func checkUnits(cfg config, win *riskmodel.Panel) (warning string, err error) {
 	t, n := win.Dims()
-	var abs []float64
+	abs := make([]float64, 0, t*n)
 	above, positive := 0, 0
 	for i := 0; i < t; i++ {
 		for j := 0; j < n; j++ {
