@@ -125,8 +125,28 @@ func job(cfg config, stdout io.Writer, log *slog.Logger, bar *progress) error {
 	}
 	m.Settings["periods_per_year_source"] = per.record
 	bar.step("validate")
-	if err := validate(cfg, in, m, stdout, log); err != nil {
-		return err
+	// The dense CSV is written beside the validation, into a partial file
+	// that takes its name only after the model has passed: the formatting
+	// and the disk fill the time the factorization leaves idle, and a model
+	// that fails leaves no file behind.
+	var dense chan denseResult
+	if cfg.dense != "" {
+		dense = make(chan denseResult, 1)
+		go func() { dense <- writeDensePartial(cfg.dense, m) }()
+	}
+	verr := validate(cfg, in, m, stdout, log)
+	var dres denseResult
+	if dense != nil {
+		dres = <-dense
+	}
+	if verr != nil || dres.err != nil {
+		if dense != nil {
+			os.Remove(dres.tmp)
+		}
+		if verr != nil {
+			return verr
+		}
+		return dres.err
 	}
 	bar.step("compare")
 	if !riskmodel.FactorForm(cfg.build.Method) {
@@ -139,9 +159,11 @@ func job(cfg config, stdout io.Writer, log *slog.Logger, bar *progress) error {
 	}
 	bar.step("dense")
 	if cfg.dense != "" {
-		if err := writeDense(cfg.dense, m, log); err != nil {
-			return err
+		if err := os.Rename(dres.tmp, cfg.dense); err != nil {
+			os.Remove(dres.tmp)
+			return fmt.Errorf("-dense: %w", err)
 		}
+		log.Info("wrote dense covariance", "file", cfg.dense, "assets", len(m.Assets), "elapsed", dres.elapsed)
 	}
 	bar.step("publish")
 	log.Info("writing model", "store", cfg.out, "asof", m.AsOf.String(), "assets", len(m.Assets))
@@ -378,21 +400,24 @@ func compare(in *inputs, prev, m *riskmodel.Model, stdout io.Writer, log *slog.L
 	return nil
 }
 
-// writeDense writes the dense covariance next to its final name and renames
-// it, so that a reader never sees half a file.
-func writeDense(path string, m *riskmodel.Model, log *slog.Logger) error {
+// denseResult is the outcome of writeDensePartial.
+type denseResult struct {
+	tmp     string // the partial file, to rename or remove
+	elapsed string
+	err     error
+}
+
+// writeDensePartial writes the dense covariance next to its final name
+// path, as a hidden partial file the caller renames, so that a reader never
+// sees half a file. It only reads m (the assets and the covariance).
+func writeDensePartial(path string, m *riskmodel.Model) denseResult {
 	start := time.Now()
-	tmp := filepath.Join(filepath.Dir(path), "."+filepath.Base(path)+".partial")
-	if err := riskmodel.WriteDenseCSVFile(tmp, m); err != nil {
-		os.Remove(tmp)
-		return fmt.Errorf("-dense: %w", err)
+	r := denseResult{tmp: filepath.Join(filepath.Dir(path), "."+filepath.Base(path)+".partial")}
+	if err := riskmodel.WriteDenseCSVFile(r.tmp, m); err != nil {
+		r.err = fmt.Errorf("-dense: %w", err)
 	}
-	if err := os.Rename(tmp, path); err != nil {
-		os.Remove(tmp)
-		return fmt.Errorf("-dense: %w", err)
-	}
-	log.Info("wrote dense covariance", "file", path, "assets", len(m.Assets), "elapsed", since(start))
-	return nil
+	r.elapsed = since(start)
+	return r
 }
 
 func round(x float64, digits int) float64 {
