@@ -9,6 +9,7 @@ import (
 	"math"
 	"os"
 	"path/filepath"
+	"runtime"
 	"strconv"
 	"strings"
 	"time"
@@ -124,6 +125,7 @@ func job(cfg config, stdout io.Writer, log *slog.Logger, bar *progress) error {
 		return err
 	}
 	m.Settings["periods_per_year_source"] = per.record
+	collect()
 	bar.step("validate")
 	// The dense CSV is written beside the validation, into a partial file
 	// that takes its name only after the model has passed: the formatting
@@ -148,6 +150,7 @@ func job(cfg config, stdout io.Writer, log *slog.Logger, bar *progress) error {
 		}
 		return dres.err
 	}
+	collect()
 	bar.step("compare")
 	if !riskmodel.FactorForm(cfg.build.Method) {
 		prev = previous(store, log)
@@ -419,6 +422,15 @@ func writeDensePartial(path string, m *riskmodel.Model) denseResult {
 	r.elapsed = since(start)
 	return r
 }
+
+// collect runs the garbage collector between steps. The build's work
+// matrices and the validation's Cholesky factor (N×N each for a dense model)
+// are garbage once their step ends, but the collector would only notice
+// after the next step had allocated its own N×N matrix (the read-back of the
+// published model, the previous model), so the peak would hold three of
+// them; collecting here lets the next step reuse their memory. Cheap: the
+// large matrices hold no pointers, so marking costs milliseconds.
+func collect() { runtime.GC() }
 
 func round(x float64, digits int) float64 {
 	p := math.Pow(10, float64(digits))
