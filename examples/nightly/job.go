@@ -127,28 +127,14 @@ func job(cfg config, stdout io.Writer, log *slog.Logger, bar *progress) error {
 	m.Settings["periods_per_year_source"] = per.record
 	collect()
 	bar.step("validate")
-	// The dense CSV is written beside the validation, into a partial file
-	// that takes its name only after the model has passed: the formatting
-	// and the disk fill the time the factorization leaves idle, and a model
-	// that fails leaves no file behind.
-	var dense chan denseResult
-	if cfg.dense != "" {
-		dense = make(chan denseResult, 1)
-		go func() { dense <- writeDensePartial(cfg.dense, m) }()
-	}
-	verr := validate(cfg, in, m, stdout, log)
-	var dres denseResult
-	if dense != nil {
-		dres = <-dense
-	}
-	if verr != nil || dres.err != nil {
-		if dense != nil {
-			os.Remove(dres.tmp)
-		}
-		if verr != nil {
-			return verr
-		}
-		return dres.err
+	// The dense CSV is written beside the validation and the comparison,
+	// into a partial file that takes its name only once the model has passed
+	// them: the formatting and the disk fill the time the factorization
+	// leaves idle, and a model that fails leaves no file behind.
+	dense := startDense(cfg.dense, m)
+	defer dense.abandon()
+	if err := validate(cfg, in, m, stdout, log); err != nil {
+		return err
 	}
 	collect()
 	bar.step("compare")
@@ -161,12 +147,8 @@ func job(cfg config, stdout io.Writer, log *slog.Logger, bar *progress) error {
 		}
 	}
 	bar.step("dense")
-	if cfg.dense != "" {
-		if err := os.Rename(dres.tmp, cfg.dense); err != nil {
-			os.Remove(dres.tmp)
-			return fmt.Errorf("-dense: %w", err)
-		}
-		log.Info("wrote dense covariance", "file", cfg.dense, "assets", len(m.Assets), "elapsed", dres.elapsed)
+	if err := dense.commit(log); err != nil {
+		return err
 	}
 	bar.step("publish")
 	log.Info("writing model", "store", cfg.out, "asof", m.AsOf.String(), "assets", len(m.Assets))
@@ -403,24 +385,55 @@ func compare(in *inputs, prev, m *riskmodel.Model, stdout io.Writer, log *slog.L
 	return nil
 }
 
-// denseResult is the outcome of writeDensePartial.
-type denseResult struct {
-	tmp     string // the partial file, to rename or remove
-	elapsed string
-	err     error
+// denseWriter writes the -dense file in the background: startDense starts
+// it, commit waits for it and gives the file its name, abandon (after a
+// failure) waits for it and removes what it wrote. A nil *denseWriter (no
+// -dense) does nothing.
+type denseWriter struct {
+	path, tmp string
+	assets    int
+	start     time.Time
+	done      chan error
+	finished  bool
 }
 
-// writeDensePartial writes the dense covariance next to its final name
-// path, as a hidden partial file the caller renames, so that a reader never
-// sees half a file. It only reads m (the assets and the covariance).
-func writeDensePartial(path string, m *riskmodel.Model) denseResult {
-	start := time.Now()
-	r := denseResult{tmp: filepath.Join(filepath.Dir(path), "."+filepath.Base(path)+".partial")}
-	if err := riskmodel.WriteDenseCSVFile(r.tmp, m); err != nil {
-		r.err = fmt.Errorf("-dense: %w", err)
+// startDense writes the model's dense covariance to a hidden partial file
+// next to path, so that a reader never sees half a file. The writer only
+// reads m (its assets and covariance).
+func startDense(path string, m *riskmodel.Model) *denseWriter {
+	if path == "" {
+		return nil
 	}
-	r.elapsed = since(start)
-	return r
+	w := &denseWriter{path: path, tmp: filepath.Join(filepath.Dir(path), "."+filepath.Base(path)+".partial"),
+		assets: len(m.Assets), start: time.Now(), done: make(chan error, 1)}
+	go func() { w.done <- riskmodel.WriteDenseCSVFile(w.tmp, m) }()
+	return w
+}
+
+func (w *denseWriter) commit(log *slog.Logger) error {
+	if w == nil || w.finished {
+		return nil
+	}
+	w.finished = true
+	err := <-w.done
+	if err == nil {
+		err = os.Rename(w.tmp, w.path)
+	}
+	if err != nil {
+		os.Remove(w.tmp)
+		return fmt.Errorf("-dense: %w", err)
+	}
+	log.Info("wrote dense covariance", "file", w.path, "assets", w.assets, "elapsed", since(w.start))
+	return nil
+}
+
+func (w *denseWriter) abandon() {
+	if w == nil || w.finished {
+		return
+	}
+	w.finished = true
+	<-w.done
+	os.Remove(w.tmp)
 }
 
 // collect runs the garbage collector between steps. The build's work
