@@ -503,7 +503,7 @@ func loadDense(n int, open func(string) (*os.File, int64, error), bad func(strin
 		raw.Data[i*raw.Stride+j] = v
 		return nil
 	}
-	err = eachDenseColumns(f, visit)
+	err = eachDenseColumns(f, want, visit)
 	if errors.Is(err, errNotPlain) {
 		clear(raw.Data)
 		clear(seen)

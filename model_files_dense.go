@@ -20,8 +20,10 @@ var errNotPlain = errors.New("not plain columns")
 // at 18 M rows. It returns errNotPlain, before calling fn, when the file is
 // not three required columns of those types, and errNotPlain after calling
 // fn on some rows when a later page has no typed reader (a hostile or
-// foreign file); the caller restarts with the generic reader then.
-func eachDenseColumns(f *parquet.File, fn func(i, j int32, v float64) error) error {
+// foreign file); the caller restarts with the generic reader then. A file
+// whose row groups claim more than limit rows in all is refused before any
+// buffer is sized by them (ErrInvalidModel).
+func eachDenseColumns(f *parquet.File, limit int, fn func(i, j int32, v float64) error) error {
 	var cols [3]int
 	for k, name := range []string{"row", "col", "covariance"} {
 		leaf, ok := f.Schema().Lookup(name)
@@ -34,12 +36,19 @@ func eachDenseColumns(f *parquet.File, fn func(i, j int32, v float64) error) err
 		}
 		cols[k] = leaf.ColumnIndex
 	}
+	total := int64(0)
+	for _, rg := range f.RowGroups() {
+		if rg.NumRows() < 0 || total+rg.NumRows() > int64(limit) {
+			return fmt.Errorf("%w: more than %d elements", ErrInvalidModel, limit)
+		}
+		total += rg.NumRows()
+	}
 	var rows, cols2 []int32
 	var vals []float64
 	for _, rg := range f.RowGroups() {
 		chunks := rg.ColumnChunks()
 		n := int(rg.NumRows())
-		if n < 0 || max(cols[0], cols[1], cols[2]) >= len(chunks) {
+		if max(cols[0], cols[1], cols[2]) >= len(chunks) {
 			return errNotPlain
 		}
 		rows, cols2, vals = grow(rows, n), grow(cols2, n), grow(vals, n)

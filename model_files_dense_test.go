@@ -58,7 +58,7 @@ func TestLoadDenseColumnsAndRows(t *testing.T) {
 	require.NoError(t, err)
 	require.Greater(t, len(f.RowGroups()), 1)
 	byCols := mat.NewSymDense(n, nil)
-	require.NoError(t, eachDenseColumns(f, func(i, j int32, v float64) error { byCols.SetSym(int(i), int(j), v); return nil }))
+	require.NoError(t, eachDenseColumns(f, 1<<20, func(i, j int32, v float64) error { byCols.SetSym(int(i), int(j), v); return nil }))
 	byRows := mat.NewSymDense(n, nil)
 	require.NoError(t, eachRow(f, "x", func(r denseCovRow) error { byRows.SetSym(int(r.Row), int(r.Col), r.Covariance); return nil }))
 	require.Equal(t, symData(byRows), symData(byCols))
@@ -86,7 +86,7 @@ func TestLoadDenseColumnsAndRows(t *testing.T) {
 			if name != "plain" {
 				f, err := parquet.OpenFile(bytes.NewReader(data), int64(len(data)))
 				require.NoError(t, err)
-				require.ErrorIs(t, eachDenseColumns(f, func(int32, int32, float64) error { return nil }), errNotPlain)
+				require.ErrorIs(t, eachDenseColumns(f, 1<<20, func(int32, int32, float64) error { return nil }), errNotPlain)
 			}
 			got, err := loadDenseBytes(t, n, data)
 			require.NoError(t, err)
@@ -116,6 +116,11 @@ func TestLoadDenseColumnsRefuses(t *testing.T) {
 		return denseCovRow{Row: int32(i), Col: int32(j), Covariance: v}
 	}))
 	require.ErrorContains(t, err, "has 15 elements, want 21")
+	_, err = loadDenseBytes(t, n-1, denseFile(t, s, func(i, j int, v float64) denseCovRow {
+		return denseCovRow{Row: int32(i), Col: int32(j), Covariance: v}
+	}))
+	require.ErrorIs(t, err, ErrInvalidModel)
+	require.ErrorContains(t, err, "more than 10 elements", "row groups that claim more rows than the triangle has")
 }
 
 // TestSymBitsEqual checks the in-place comparison the store's read-back

@@ -11,7 +11,9 @@
 # (the demo simulator takes minutes at N = 6000). Each repetition runs the
 # job, then the script, and prints the load average before each run: the
 # machine is shared, so the best and the median of the repetitions are given.
-# NIGHTLY_BIN=path times that binary instead of a build of the work tree.
+# NIGHTLY_BIN=path times that binary instead of a build of the work tree;
+# NIGHTLY_BEFORE=path also times that one (an older build) in every
+# repetition, for a before/after ratio under the same load.
 set -euo pipefail
 cd "$(dirname "$0")/../.."
 n=${1:-6000}
@@ -47,6 +49,11 @@ run() {
 	echo "$wall" >>"$work/$label.walls"
 }
 for ((k = 1; k <= reps; k++)); do
+	if [ -n "${NIGHTLY_BEFORE:-}" ]; then
+		rm -rf "$work/store"
+		run before "$NIGHTLY_BEFORE" -returns "$panel/returns_wide.csv" -assets "$panel/assets.csv" \
+			-method ledoit-wolf -window "$t" -dense "$work/dense-before.csv" -out "$work/store"
+	fi
 	rm -rf "$work/store"
 	run nightly "$work/nightly" -returns "$panel/returns_wide.csv" -assets "$panel/assets.csv" \
 		-method ledoit-wolf -window "$t" -dense "$work/dense.csv" -out "$work/store"
@@ -57,4 +64,9 @@ read -r nb nm <<<"$(stats nightly)"
 read -r sb sm <<<"$(stats sklearn)"
 printf 'N = %d, T = %d, %d runs: nightly best %.2f s median %.2f s; sklearn best %.2f s median %.2f s; ratio (sklearn / nightly) of medians %.2f\n' \
 	"$n" "$t" "$reps" "$nb" "$nm" "$sb" "$sm" "$(echo "$sm / $nm" | bc -l)"
+if [ -n "${NIGHTLY_BEFORE:-}" ]; then
+	read -r bb bm <<<"$(stats before)"
+	printf 'before: best %.2f s median %.2f s; ratio (before / nightly) of medians %.2f; dense CSV identical: %s\n' \
+		"$bb" "$bm" "$(echo "$bm / $nm" | bc -l)" "$(cmp -s "$work/dense-before.csv" "$work/dense.csv" && echo yes || echo no)"
+fi
 grep -E 'elapsed' "$work/nightly.err" | sed -E 's/^time=[^ ]+ level=[A-Z]+ //' | cut -c1-110
