@@ -94,7 +94,23 @@ func (m *Model) equal(o *Model) bool {
 			bitsEqual(a.SpecificVariancesTo(nil), b.SpecificVariancesTo(nil)) &&
 			slices.Equal(a.FactorNames(), b.FactorNames())
 	}
-	return bitsEqual(symData(m.Dense), symData(o.Dense))
+	return symBitsEqual(m.Dense, o.Dense)
+}
+
+// symBitsEqual reports whether the upper triangles of a and b hold the same
+// bits, without copying them (the store compares two N×N matrices with it).
+func symBitsEqual(a, b *mat.SymDense) bool {
+	n := a.SymmetricDim()
+	if b.SymmetricDim() != n {
+		return false
+	}
+	ra, rb := a.RawSymmetric(), b.RawSymmetric()
+	for i := 0; i < n; i++ {
+		if !bitsEqual(ra.Data[i*ra.Stride+i:i*ra.Stride+n], rb.Data[i*rb.Stride+i:i*rb.Stride+n]) {
+			return false
+		}
+	}
+	return true
 }
 
 // symData returns the upper triangle of s, row by row.

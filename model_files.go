@@ -312,6 +312,34 @@ func LoadModel(dir string) (m *Model, err error) {
 		}
 		return data, nil
 	}
+	// open is get for the large dense covariance: it checks the file's
+	// checksum by reading it through once and hands back the open file, so
+	// that the Parquet reader reads it in place instead of from a copy in
+	// memory. The caller closes the file.
+	open := func(name string) (*os.File, int64, error) {
+		want, ok := man.Files[name]
+		if !ok {
+			return nil, 0, bad("%s is not listed in %s", name, manifestFile)
+		}
+		f, err := os.Open(filepath.Join(dir, name))
+		if err != nil {
+			return nil, 0, fmt.Errorf("riskmodel: load model: %w", err)
+		}
+		h := sha256.New()
+		size, err := io.Copy(h, f)
+		if err == nil {
+			_, err = f.Seek(0, io.SeekStart)
+		}
+		if err != nil {
+			f.Close()
+			return nil, 0, fmt.Errorf("riskmodel: load model: %w", err)
+		}
+		if hex.EncodeToString(h.Sum(nil)) != want {
+			f.Close()
+			return nil, 0, bad("%s does not match its checksum (truncated or altered)", name)
+		}
+		return f, size, nil
+	}
 	asof, err := ParseDate(man.AsOf)
 	if err != nil {
 		return nil, bad("as_of: %v", err)
@@ -339,7 +367,7 @@ func LoadModel(dir string) (m *Model, err error) {
 	case "factor":
 		m.Factor, err = loadFactor(man, arows, get, bad)
 	case "dense":
-		m.Dense, err = loadDense(len(arows), get, bad)
+		m.Dense, err = loadDense(len(arows), open, bad)
 	default:
 		err = bad("kind %q", man.Kind)
 	}
@@ -442,13 +470,27 @@ func loadFactor(man manifest, arows []assetRow, get func(string) ([]byte, error)
 	return f, nil
 }
 
-func loadDense(n int, get func(string) ([]byte, error), bad func(string, ...any) error) (*mat.SymDense, error) {
+// loadDense reads covariance.parquet into an N×N matrix, checking that
+// every element of the upper triangle appears exactly once. A file as
+// saveDenseFiles writes it is read by columns (eachDenseColumns); any other
+// valid layout by rows.
+func loadDense(n int, open func(string) (*os.File, int64, error), bad func(string, ...any) error) (*mat.SymDense, error) {
+	file, size, err := open(denseCovFile)
+	if err != nil {
+		return nil, err
+	}
+	defer file.Close()
+	f, err := parquet.OpenFile(file, size)
+	if err != nil {
+		return nil, fmt.Errorf("riskmodel: load model: %w: %s: %v", ErrInvalidModel, denseCovFile, err)
+	}
 	s := mat.NewSymDense(n, nil)
+	raw := s.RawSymmetric()
 	want := n * (n + 1) / 2
 	seen := make([]uint64, (want+63)/64) // a bit per element of the upper triangle
 	count := 0
-	err := eachParquetRow(denseCovFile, get, func(r denseCovRow) error {
-		i, j := int(r.Row), int(r.Col)
+	visit := func(r, c int32, v float64) error {
+		i, j := int(r), int(c)
 		if i < 0 || j < i || j >= n {
 			return bad("%s: element (%d, %d) outside the upper triangle of %d assets", denseCovFile, i, j, n)
 		}
@@ -458,9 +500,18 @@ func loadDense(n int, get func(string) ([]byte, error), bad func(string, ...any)
 		}
 		seen[at/64] |= 1 << (at % 64)
 		count++
-		s.SetSym(i, j, r.Covariance)
+		raw.Data[i*raw.Stride+j] = v
 		return nil
-	})
+	}
+	err = eachDenseColumns(f, want, visit)
+	if errors.Is(err, errNotPlain) {
+		clear(raw.Data)
+		clear(seen)
+		count = 0
+		err = eachRow(f, denseCovFile, func(r denseCovRow) error { return visit(r.Row, r.Col, r.Covariance) })
+	} else if errors.Is(err, ErrInvalidModel) {
+		err = fmt.Errorf("riskmodel: load model: %s: %w", denseCovFile, err)
+	}
 	if err != nil {
 		return nil, err
 	}
@@ -479,15 +530,27 @@ func getParquet[T any](name string, get func(string) ([]byte, error)) ([]T, erro
 // eachParquetRow calls fn on every row of the named file, reading 8192 rows
 // at a time, and stops at fn's first error.
 func eachParquetRow[T any](name string, get func(string) ([]byte, error), fn func(T) error) error {
-	data, err := get(name)
+	f, err := openModelParquet(name, get)
 	if err != nil {
 		return err
 	}
-	rd := bytes.NewReader(data)
-	f, err := parquet.OpenFile(rd, int64(len(data)))
+	return eachRow(f, name, fn)
+}
+
+func openModelParquet(name string, get func(string) ([]byte, error)) (*parquet.File, error) {
+	data, err := get(name)
 	if err != nil {
-		return fmt.Errorf("riskmodel: load model: %w: %s: %v", ErrInvalidModel, name, err)
+		return nil, err
 	}
+	f, err := parquet.OpenFile(bytes.NewReader(data), int64(len(data)))
+	if err != nil {
+		return nil, fmt.Errorf("riskmodel: load model: %w: %s: %v", ErrInvalidModel, name, err)
+	}
+	return f, nil
+}
+
+// eachRow is eachParquetRow on an open file.
+func eachRow[T any](f *parquet.File, name string, fn func(T) error) error {
 	r := parquet.NewGenericReader[T](f)
 	defer r.Close()
 	buf := make([]T, 8192)

@@ -127,10 +127,11 @@ func frequency(cfg config, p *riskmodel.Panel, log *slog.Logger) (periods, error
 
 // checkUnits refuses a window whose returns look like prices or percent
 // returns: too many values above 1, or a median absolute value far above
-// any return series'.
-func checkUnits(cfg config, win *riskmodel.Panel) error {
+// any return series'. With -accept-implausible it returns the finding as a
+// warning instead (empty when the returns pass).
+func checkUnits(cfg config, win *riskmodel.Panel) (warning string, err error) {
 	t, n := win.Dims()
-	var abs []float64
+	abs := make([]float64, 0, t*n)
 	above, positive := 0, 0
 	for i := 0; i < t; i++ {
 		for j := 0; j < n; j++ {
@@ -148,35 +149,80 @@ func checkUnits(cfg config, win *riskmodel.Panel) error {
 		}
 	}
 	if len(abs) == 0 {
-		return nil
+		return "", nil
 	}
-	slices.Sort(abs)
-	med := abs[len(abs)/2]
-	share := float64(above) / float64(len(abs))
+	count := len(abs)
+	med := orderStatistic(abs, count/2) // the upper median, as abs[count/2] of the sorted values
+	share := float64(above) / float64(count)
 	limit := math.Min(1, maxDailyMedianAbs*math.Sqrt(riskmodel.DailyPeriods/win.PeriodsPerYear()))
 	if share <= maxImplausibleShare && med <= limit {
-		return nil
+		return "", nil
 	}
 	cause := "percent returns (divide by 100)"
-	if positive == len(abs) && med > 1 {
+	if positive == count && med > 1 {
 		cause = "prices, not returns (every value is positive; convert to p_t / p_{t-1} - 1)"
 	}
 	msg := fmt.Sprintf("%s: the returns look like %s: %.1f %% of %d observed values are above 1 (limit %.0f %%) and the median absolute value is %.4g (limit %.3g for %g periods a year)",
-		cfg.returns, cause, 100*share, len(abs), 100*maxImplausibleShare, med, limit, win.PeriodsPerYear())
+		cfg.returns, cause, 100*share, count, 100*maxImplausibleShare, med, limit, win.PeriodsPerYear())
+	msg += "; returns are simple decimal returns per period (0.01 = 1 %); -accept-implausible builds anyway"
 	if cfg.acceptImplausible {
-		return nil
+		return msg, nil
 	}
-	return badInput{errors.New(msg + "; returns are simple decimal returns per period (0.01 = 1 %); -accept-implausible builds anyway")}
+	return "", badInput{errors.New(msg)}
 }
 
-// unitsWarning is checkUnits' finding when -accept-implausible overrides it.
-func unitsWarning(cfg config, win *riskmodel.Panel) string {
-	c := cfg
-	c.acceptImplausible = false
-	if err := checkUnits(c, win); err != nil {
-		return err.Error()
+// orderStatistic returns the k-th smallest value of a (0-based), the value
+// a[k] would hold after slices.Sort(a), and reorders a. It selects in
+// expected O(len(a)) time (Hoare's quickselect with a median-of-three pivot
+// and a three-way partition, so runs of equal values cost nothing extra),
+// falling back to sorting the remaining range after 64 rounds, so the worst
+// case is O(n log n). a holds no NaN.
+//
+// References: Hoare, C. A. R. (1961). Algorithm 65: Find. Communications of
+// the ACM 4(7), 321–322.
+func orderStatistic(a []float64, k int) float64 {
+	lo, hi := 0, len(a) // the k-th smallest is in a[lo:hi]
+	for round := 0; hi-lo > 16; round++ {
+		if round == 64 {
+			break
+		}
+		p := median3(a[lo], a[lo+(hi-lo)/2], a[hi-1])
+		// Dutch national flag: a[lo:lt] < p, a[lt:i] == p, a[gt:hi] > p.
+		lt, i, gt := lo, lo, hi
+		for i < gt {
+			switch v := a[i]; {
+			case v < p:
+				a[lt], a[i] = a[i], a[lt]
+				lt++
+				i++
+			case v > p:
+				gt--
+				a[gt], a[i] = a[i], a[gt]
+			default:
+				i++
+			}
+		}
+		switch {
+		case k < lt:
+			hi = lt
+		case k >= gt:
+			lo = gt
+		default:
+			return p
+		}
 	}
-	return ""
+	slices.Sort(a[lo:hi])
+	return a[k]
+}
+
+func median3(a, b, c float64) float64 {
+	if a > b {
+		a, b = b, a
+	}
+	if b > c {
+		b = c
+	}
+	return max(a, b)
 }
 
 // checkDates refuses an -asof past the data, a last date on which few assets

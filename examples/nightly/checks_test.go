@@ -8,9 +8,11 @@ import (
 	"encoding/json"
 	"fmt"
 	"math"
+	"math/rand/v2"
 	"os"
 	"os/exec"
 	"path/filepath"
+	"slices"
 	"strconv"
 	"strings"
 	"syscall"
@@ -489,5 +491,33 @@ func TestOverlappingJobs(t *testing.T) {
 			match = match || (m.AsOf == cur.AsOf && mat.Equal(m.Dense, cur.Dense))
 		}
 		require.True(t, match, "round %d: current is one of the published models", round)
+	}
+}
+
+// TestOrderStatistic checks the selection against sorting (the naive
+// reference): random values, many ties, sorted and reversed input, tiny slices.
+func TestOrderStatistic(t *testing.T) {
+	rng := rand.New(rand.NewPCG(3, 9))
+	cases := map[string][]float64{"one": {0.5}, "two": {2, 1}}
+	for _, n := range []int{17, 100, 1001, 50000} {
+		random, ties, sorted := make([]float64, n), make([]float64, n), make([]float64, n)
+		for i := range n {
+			random[i] = rng.NormFloat64()
+			ties[i] = float64(rng.IntN(3))
+			sorted[i] = float64(i)
+		}
+		reversed := slices.Clone(sorted)
+		slices.Reverse(reversed)
+		cases[fmt.Sprint("random ", n)] = random
+		cases[fmt.Sprint("ties ", n)] = ties
+		cases[fmt.Sprint("sorted ", n)] = sorted
+		cases[fmt.Sprint("reversed ", n)] = reversed
+	}
+	for name, a := range cases {
+		want := slices.Sorted(slices.Values(a))
+		for _, k := range []int{0, len(a) / 2, len(a) - 1} {
+			got := orderStatistic(slices.Clone(a), k)
+			require.Equal(t, want[k], got, "%s, k = %d", name, k)
+		}
 	}
 }

@@ -9,6 +9,7 @@ import (
 	"math"
 	"os"
 	"path/filepath"
+	"runtime"
 	"strconv"
 	"strings"
 	"time"
@@ -93,10 +94,11 @@ func job(cfg config, stdout io.Writer, log *slog.Logger, bar *progress) error {
 		return err
 	}
 	quality(cfg, in, win, asof, stdout, log)
-	if err := checkUnits(cfg, win); err != nil {
+	w, err := checkUnits(cfg, win)
+	if err != nil {
 		return err
 	}
-	if w := unitsWarning(cfg, win); w != "" {
+	if w != "" {
 		log.Warn("-accept-implausible: building from returns that fail the units check", "check", oneLine(w))
 	}
 	if wt, _ := win.Dims(); wt < cfg.build.Window {
@@ -123,10 +125,18 @@ func job(cfg config, stdout io.Writer, log *slog.Logger, bar *progress) error {
 		return err
 	}
 	m.Settings["periods_per_year_source"] = per.record
+	collect()
 	bar.step("validate")
+	// The dense CSV is written beside the validation and the comparison,
+	// into a partial file that takes its name only once the model has passed
+	// them: the formatting and the disk fill the time the factorization
+	// leaves idle, and a model that fails leaves no file behind.
+	dense := startDense(cfg.dense, m)
+	defer dense.abandon()
 	if err := validate(cfg, in, m, stdout, log); err != nil {
 		return err
 	}
+	collect()
 	bar.step("compare")
 	if !riskmodel.FactorForm(cfg.build.Method) {
 		prev = previous(store, log)
@@ -137,10 +147,8 @@ func job(cfg config, stdout io.Writer, log *slog.Logger, bar *progress) error {
 		}
 	}
 	bar.step("dense")
-	if cfg.dense != "" {
-		if err := writeDense(cfg.dense, m, log); err != nil {
-			return err
-		}
+	if err := dense.commit(log); err != nil {
+		return err
 	}
 	bar.step("publish")
 	log.Info("writing model", "store", cfg.out, "asof", m.AsOf.String(), "assets", len(m.Assets))
@@ -394,22 +402,65 @@ func compare(in *inputs, prev, m *riskmodel.Model, stdout io.Writer, log *slog.L
 	return nil
 }
 
-// writeDense writes the dense covariance next to its final name and renames
-// it, so that a reader never sees half a file.
-func writeDense(path string, m *riskmodel.Model, log *slog.Logger) error {
-	start := time.Now()
-	tmp := filepath.Join(filepath.Dir(path), "."+filepath.Base(path)+".partial")
-	if err := riskmodel.WriteDenseCSVFile(tmp, m); err != nil {
-		os.Remove(tmp)
+// denseWriter writes the -dense file in the background: startDense starts
+// it, commit waits for it and gives the file its name, abandon (after a
+// failure) waits for it and removes what it wrote. A nil *denseWriter (no
+// -dense) does nothing.
+type denseWriter struct {
+	path, tmp string
+	assets    int
+	start     time.Time
+	done      chan error
+	finished  bool
+}
+
+// startDense writes the model's dense covariance to a hidden partial file
+// next to path, so that a reader never sees half a file. The writer only
+// reads m (its assets and covariance).
+func startDense(path string, m *riskmodel.Model) *denseWriter {
+	if path == "" {
+		return nil
+	}
+	w := &denseWriter{path: path, tmp: filepath.Join(filepath.Dir(path), "."+filepath.Base(path)+".partial"),
+		assets: len(m.Assets), start: time.Now(), done: make(chan error, 1)}
+	go func() { w.done <- riskmodel.WriteDenseCSVFile(w.tmp, m) }()
+	return w
+}
+
+func (w *denseWriter) commit(log *slog.Logger) error {
+	if w == nil || w.finished {
+		return nil
+	}
+	w.finished = true
+	err := <-w.done
+	if err == nil {
+		err = os.Rename(w.tmp, w.path)
+	}
+	if err != nil {
+		os.Remove(w.tmp)
 		return fmt.Errorf("-dense: %w", err)
 	}
-	if err := os.Rename(tmp, path); err != nil {
-		os.Remove(tmp)
-		return fmt.Errorf("-dense: %w", err)
-	}
-	log.Info("wrote dense covariance", "file", path, "assets", len(m.Assets), "elapsed", since(start))
+	log.Info("wrote dense covariance", "file", w.path, "assets", w.assets, "elapsed", since(w.start))
 	return nil
 }
+
+func (w *denseWriter) abandon() {
+	if w == nil || w.finished {
+		return
+	}
+	w.finished = true
+	<-w.done
+	os.Remove(w.tmp)
+}
+
+// collect runs the garbage collector between steps. The build's work
+// matrices and the validation's Cholesky factor (N×N each for a dense model)
+// are garbage once their step ends, but the collector would only notice
+// after the next step had allocated its own N×N matrix (the read-back of the
+// published model, the previous model), so the peak would hold three of
+// them; collecting here lets the next step reuse their memory. Cheap: the
+// large matrices hold no pointers, so marking costs milliseconds.
+func collect() { runtime.GC() }
 
 func round(x float64, digits int) float64 {
 	p := math.Pow(10, float64(digits))

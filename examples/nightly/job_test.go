@@ -218,6 +218,23 @@ func TestDenseCSV(t *testing.T) {
 	}
 }
 
+// TestDenseCSVFailedValidation: the dense CSV is written beside the
+// validation, and a model that fails it leaves neither the file nor its
+// partial file behind (nor a published model).
+func TestDenseCSVFailedValidation(t *testing.T) {
+	_, args := smallMarket(t, false)
+	store, dir := t.TempDir(), t.TempDir()
+	dense := filepath.Join(dir, "cov.csv")
+	code, _, errs := runJob(append(args, "-method", "ledoit-wolf", "-out", store, "-dense", dense, "-max-condition", "1.5")...)
+	require.Equal(t, exitFailure, code, errs)
+	require.Contains(t, lastLine(errs), "is above -max-condition")
+	entries, err := os.ReadDir(dir)
+	require.NoError(t, err)
+	require.Empty(t, entries, "no dense file and no partial file")
+	_, err = riskmodel.Store{Dir: store}.Current()
+	require.ErrorIs(t, err, riskmodel.ErrNoCurrent)
+}
+
 func TestBadInput(t *testing.T) {
 	root := fakeRepo(t)
 	demo := filepath.Join(root, "testdata", "demo")
