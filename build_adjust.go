@@ -20,6 +20,15 @@ const (
 	VariantBest       = "best"       // Factor.HoldoutBest: the holdout criteria's best k
 )
 
+// RecommendedVariant is the factor model with the corrections that
+// forecast the risk of optimized portfolios best in the project's
+// evaluation (README, "Risk of optimized portfolios"): K by the best
+// held-out minimum-variance risk, the factor space from volatility-weighted
+// returns and the dispersion-corrected leading eigenvector. It is the
+// nightly job's default; BuildOptions' zero value stays the plain factor
+// model (Bai–Ng IC_p2, no correction).
+const RecommendedVariant = MethodFactor + "+" + VariantHoldoutMV + "+" + VariantBest + "+" + VariantWeighted + "+" + VariantDispersion
+
 // ParseVariant returns the BuildOptions of a variant name: a method of
 // Methods followed by "+"-separated switches, for example
 // "factor+holdout+regime" or "ledoit-wolf+regime". The switches are the

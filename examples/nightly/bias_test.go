@@ -2,6 +2,7 @@ package main
 
 import (
 	"encoding/json"
+	"io"
 	"os"
 	"path/filepath"
 	"testing"
@@ -67,4 +68,16 @@ func TestBiasWarningAndRefusal(t *testing.T) {
 	for _, e := range entries {
 		require.NotEqual(t, "current", e.Name(), "a refused model was published")
 	}
+}
+
+// The nightly's defaults are riskmodel.RecommendedVariant.
+func TestDefaultsAreTheRecommendedVariant(t *testing.T) {
+	cfg, err := parseFlags(nil, io.Discard)
+	require.NoError(t, err)
+	want, err := riskmodel.ParseVariant(riskmodel.RecommendedVariant)
+	require.NoError(t, err)
+	require.Equal(t, want.Method, cfg.build.Method)
+	require.Equal(t, want.Factor.Criterion, cfg.build.Factor.Criterion)
+	require.Equal(t, want.Factor.HoldoutBest, cfg.build.Factor.HoldoutBest)
+	require.Equal(t, want.Adjust, cfg.build.Adjust)
 }

@@ -161,13 +161,14 @@ Flags:
 	return cfg, cfg.defaults()
 }
 
-// The nightly's defaults: the combination that forecast best in
-// examples/evaluate on the demo and on simulated markets of other shapes
-// (README, "Risk of optimized portfolios").
+// The nightly's defaults: riskmodel.RecommendedVariant, the combination
+// that forecast best in examples/evaluate on the demo and on simulated
+// markets of other shapes (README, "Risk of optimized portfolios");
+// TestDefaultsAreTheRecommendedVariant keeps the two equal.
 const (
-	defaultCriterion    = "holdout-likelihood"
-	defaultHoldoutRule  = "one-se"
-	defaultFactorAdjust = "dispersion"
+	defaultCriterion    = "holdout-min-variance"
+	defaultHoldoutRule  = "best"
+	defaultFactorAdjust = "weighted,dispersion"
 	defaultDenseAdjust  = "" // the dense methods stay the published estimators
 )
 
