@@ -9,7 +9,7 @@ import (
 
 // From the files to the analyst's numbers: the bundled demo market's
 // returns, metadata and holdings in, a factor model built as the nightly
-// job and the attribution program build it (specific variances shrunk
+// job builds it (riskmodel.RecommendedVariant, specific variances shrunk
 // within sectors, seed 1), and the fund's ex-ante tracking error against
 // its benchmark, annualised, split into its factor and specific parts.
 // This is the README's "Using it from Go"; it prints the attribution
@@ -36,7 +36,12 @@ func ExampleAttribute() {
 		sectors[a.Asset] = a.Sector
 	}
 	t, _ := p.Dims()
-	m, _, err := riskmodel.Build(p, p.Date(t-1), &riskmodel.BuildOptions{Seed: 1, Factor: riskmodel.FactorOptions{Groups: sectors}})
+	o, err := riskmodel.ParseVariant(riskmodel.RecommendedVariant) // the nightly's default model
+	if err != nil {
+		log.Fatal(err)
+	}
+	o.Seed, o.Factor.Groups = 1, sectors
+	m, _, err := riskmodel.Build(p, p.Date(t-1), &o)
 	if err != nil {
 		log.Fatal(err)
 	}
@@ -48,6 +53,6 @@ func ExampleAttribute() {
 	fmt.Printf("%s model as of %s, K = %d, positive definite %v\n", a.Method, a.AsOf, a.NumFactors, v.PositiveDefinite)
 	fmt.Printf("tracking error %.4f %% a year: factor %.4f %%, specific %.4f %%\n", 100*a.TrackingError, 100*a.FactorPart, 100*a.SpecificPart)
 	// Output:
-	// factor model as of 2033-11-16, K = 7, positive definite true
-	// tracking error 2.3109 % a year: factor 1.7052 %, specific 0.6057 %
+	// factor model as of 2033-11-16, K = 18, positive definite true
+	// tracking error 2.7259 % a year: factor 2.3061 %, specific 0.4198 %
 }

@@ -143,7 +143,7 @@ func factorAdjustNotes(info factor.Info, rep *BuildReport) {
 			h.Holdout.Dates, h.Holdout.Likelihood, h.Holdout.BestLikelihood, h.Holdout.MinVarianceK, h.Holdout.BestMinVariance, h.BaiNgP2))
 	}
 	if w := info.Weighting; w != nil {
-		rep.Notes = append(rep.Notes, fmt.Sprintf("factor space from volatility-weighted returns (%d passes, largest angle moved %.3f rad in the last; weights %.2f to %.2f × the median)",
+		rep.Notes = append(rep.Notes, fmt.Sprintf("factor space from volatility-weighted returns (passes: %d; largest angle moved %.3f rad in the last; weights %.2f to %.2f × the median)",
 			w.Passes, w.Angles[len(w.Angles)-1], w.MinWeight, w.MaxWeight))
 	}
 	if d := info.Dispersion; d != nil {

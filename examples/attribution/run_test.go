@@ -46,7 +46,7 @@ func store(t *testing.T) (dir string, files map[string]string) {
 func TestDemoWithoutArguments(t *testing.T) {
 	code, out, errs := runReport()
 	require.Equal(t, 0, code, errs)
-	for _, s := range []string{"Ex-ante tracking error attribution", "model            factor, as of 2033-11-16, K = 7 factors", "tracking error", "factor part",
+	for _, s := range []string{"Ex-ante tracking error attribution", "model            factor, as of 2033-11-16, K = 18 factors", "tracking error", "factor part",
 		"specific part", "By sector", "Top contributors", "Best single-name hedges", "By factor", "Caution:"} {
 		require.Contains(t, out, s)
 	}
@@ -153,7 +153,7 @@ func TestDemoLongOnlyHedges(t *testing.T) {
 		require.True(t, h.Current > 0 || h.Bench > 0, h.Asset)
 	}
 	// The README's and ExampleAttribute's figure (root package).
-	require.Equal(t, "2.3109", fmt.Sprintf("%.4f", 100*doc.TrackingError))
+	require.Equal(t, "2.7259", fmt.Sprintf("%.4f", 100*doc.TrackingError))
 	require.Len(t, doc.Groupings, 2)
 	require.NotNil(t, doc.Cross)
 	for _, f := range doc.Factors {

@@ -335,7 +335,12 @@ func loadModel(dir, demoReturns, demoAssets string) (*riskmodel.Model, error) {
 		groups[a.Asset] = a.Sector
 	}
 	t, _ := p.Dims()
-	m, _, err := riskmodel.Build(p, p.Date(t-1), &riskmodel.BuildOptions{Factor: riskmodel.FactorOptions{Groups: groups}, Seed: 1})
+	o, err := riskmodel.ParseVariant(riskmodel.RecommendedVariant) // as the nightly builds it
+	if err != nil {
+		return nil, err
+	}
+	o.Seed, o.Factor.Groups = 1, groups
+	m, _, err := riskmodel.Build(p, p.Date(t-1), &o)
 	return m, err
 }
 
