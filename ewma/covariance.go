@@ -48,7 +48,7 @@ func Covariance(dst *mat.SymDense, x mat.Matrix, w []float64, opts *Options) (*m
 	}
 	if m.wt != nil {
 		rep.Checked = true
-		rep.Repair = makePSD(dst)
+		rep.Repair = makePSD(dst, m)
 	}
 	return dst, rep, nil
 }
@@ -98,7 +98,7 @@ func finishCorr(dst *mat.SymDense, m *sums, o Options, rep *Report) error {
 	}
 	if m.wt != nil {
 		rep.Checked = true
-		rep.Repair = makePSD(dst)
+		rep.Repair = makePSD(dst, m)
 	}
 	return nil
 }

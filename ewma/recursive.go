@@ -291,7 +291,7 @@ func (r *Recursive) CovarianceTo(dst *mat.SymDense) (*mat.SymDense, *Report, err
 	}
 	if r.missing > 0 {
 		rep.Checked = true
-		rep.Repair = makePSD(dst)
+		rep.Repair = makePSD(dst, m)
 	}
 	return dst, rep, nil
 }
@@ -317,7 +317,7 @@ func (r *Recursive) CorrelationTo(dst *mat.SymDense) (*mat.SymDense, *Report, er
 	}
 	if r.missing > 0 {
 		rep.Checked = true
-		rep.Repair = makePSD(dst)
+		rep.Repair = makePSD(dst, m)
 	}
 	return dst, rep, nil
 }
