@@ -22,7 +22,7 @@ import (
 // The check is first a Cholesky factorization on all cores (N³/3 flops):
 // a positive definite a needs nothing more. Otherwise the eigenpairs come
 // from the smallest subspace known to hold the range of a (spanBasis), when
-// that subspace has at most half the dimension of a and a probe confirms
+// that subspace has at most two thirds of the dimension of a and a probe confirms
 // that a lies in it to rounding; the eigenvalues of a outside it are then
 // exactly zero and need no clipping. Failing that, from gonum's
 // eigendecomposition of a (O(N³), single-threaded). Cost with the subspace
@@ -155,7 +155,7 @@ func subspaceEigen(a *mat.SymDense, m *sums) ([]float64, *mat.Dense, bool) {
 		}
 	}
 	sketch := min(m.used+8, len(full))
-	if 2*(sketch+2*len(part)) > n {
+	if 3*(sketch+2*len(part)) > 2*n {
 		return nil, nil, false
 	}
 	av := dense.SymView(a)
