@@ -78,6 +78,9 @@ func floorEigen(dst *mat.SymDense, a mat.Symmetric, floor, maxCond float64) (*ma
 	if err != nil {
 		return dst, Repair{}, err
 	}
+	if vals, u, ok := lowRankEigen(c); ok {
+		return floorLowRank(dst, c, vals, u, floor, maxCond)
+	}
 	vals, vecs, err := eigen(c)
 	if err != nil {
 		return dst, Repair{}, err

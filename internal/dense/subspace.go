@@ -375,3 +375,80 @@ func (e *SubspaceEigen) Factorize(a, q *mat.Dense) bool {
 	e.Residual = 10 * math.Sqrt(2/math.Pi) * worst
 	return true
 }
+
+// RangeFinder returns an N×r matrix Q with orthonormal columns whose range
+// holds the range of the symmetric N×N matrix a (both triangles, as
+// SymView returns) to rounding, and true, when a has rank r ≤ maxRank; it
+// returns false once the basis would pass maxRank.
+//
+// It is the adaptive randomized range finder of Halko, Martinsson and
+// Tropp (2011), Algorithm 4.2, in blocks of b = 64 Gaussian probes from a
+// fixed seed: each block Y = (I − QQᵀ)·a·Ω is orthonormalized and appended
+// to Q (Orthonormalize, then projected off Q again), until a whole block
+// leaves nothing outside range(Q) but rounding, at most 1e-12 of the norm
+// of a·Ω's columns; with probability at least 1 − 10⁻⁶⁴ such a block means
+// ‖(I − QQᵀ)a‖ is within a small multiple of that (§4.3). Cost 2·N²·(r + b)
+// flops for the probes and about 8·N·r·(r + b) for the projections, all
+// on the multi-core kernel, plus O(b³) per block.
+//
+// References: Halko, N., Martinsson, P. G. and Tropp, J. A. (2011),
+// "Finding structure with randomness: probabilistic algorithms for
+// constructing approximate matrix decompositions", SIAM Review
+// 53(2):217–288, Algorithm 4.2 and §4.3.
+func RangeFinder(a *mat.Dense, maxRank int) (*mat.Dense, bool) {
+	n, _ := a.Dims()
+	const b = 64
+	var q *mat.Dense
+	for blk := 0; ; blk++ {
+		y := Mul(nil, a, Gaussian(n, b, 0x7a11+uint64(blk)))
+		before := colNorms(y)
+		if q != nil {
+			project(y, q)
+		}
+		after := colNorms(y)
+		done := true
+		for j := range after {
+			if after[j] > 1e-12*before[j] {
+				done = false
+			}
+		}
+		if done {
+			break
+		}
+		got := Orthonormalize(y)
+		if got.IsEmpty() {
+			break
+		}
+		if q != nil {
+			project(got, q)
+			if got = Orthonormalize(got); got.IsEmpty() {
+				break
+			}
+			q = appendCols(q, got)
+		} else {
+			q = got
+		}
+		if _, r := q.Dims(); r > maxRank {
+			return nil, false
+		}
+	}
+	if q == nil {
+		return &mat.Dense{}, true
+	}
+	return q, true
+}
+
+func colNorms(y *mat.Dense) []float64 {
+	r, c := y.Dims()
+	out := make([]float64, c)
+	raw := y.RawMatrix()
+	for i := 0; i < r; i++ {
+		for j, v := range raw.Data[i*raw.Stride : i*raw.Stride+c] {
+			out[j] += v * v
+		}
+	}
+	for j := range out {
+		out[j] = math.Sqrt(out[j])
+	}
+	return out
+}
