@@ -1,8 +1,10 @@
 package ewma
 
 import (
+	"encoding/json"
 	"math"
 	"math/rand/v2"
+	"os"
 	"testing"
 
 	"github.com/stretchr/testify/require"
@@ -113,4 +115,55 @@ func withFullRepair(t *testing.T, f func(*mat.SymDense) (*mat.SymDense, *Report,
 	got, rep, err := f(nil)
 	require.NoError(t, err)
 	return got, rep
+}
+
+// TestRepairNumpy: the repairs of a pairwise covariance and correlation
+// with N = 96 > T = 24 (8 gapped columns), taken by the subspace route,
+// equal numpy's: testdata/ewma/repair.json from make_repair.py, numpy
+// 1.24.2 numpy.linalg.eigh of the pairwise matrix, eigenvalues clipped at
+// zero and the diagonal restored (the formula in the script); to 1e-12 of
+// the largest entry, MinEigenvalue to the same, Clipped exactly.
+func TestRepairNumpy(t *testing.T) {
+	b, err := os.ReadFile("../testdata/ewma/repair.json")
+	require.NoError(t, err)
+	type ref struct {
+		Repaired      [][]float64 `json:"repaired"`
+		MinEigenvalue float64     `json:"min_eigenvalue"`
+		Clipped       int         `json:"clipped"`
+	}
+	var f struct {
+		X           [][]*float64 `json:"x"`
+		Covariance  ref          `json:"covariance"`
+		Correlation ref          `json:"correlation"`
+	}
+	require.NoError(t, json.Unmarshal(b, &f))
+	x := matrixOf(f.X)
+	for _, tc := range []struct {
+		name string
+		ref  ref
+		f    func() (*mat.SymDense, *Report, error)
+	}{
+		{"covariance", f.Covariance, func() (*mat.SymDense, *Report, error) { return Covariance(nil, x, nil, nil) }},
+		{"correlation", f.Correlation, func() (*mat.SymDense, *Report, error) { return Correlation(nil, x, nil, nil) }},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			var route string
+			repairRoute = func(r string) { route = r }
+			got, rep, err := tc.f()
+			repairRoute = nil
+			require.NoError(t, err)
+			require.Equal(t, "subspace", route)
+			require.NotNil(t, rep.Repair)
+			want := symOf(tc.ref.Repaired)
+			big := maxAbsSym(want)
+			n := want.SymmetricDim()
+			for i := 0; i < n; i++ {
+				for j := i; j < n; j++ {
+					require.InDelta(t, want.At(i, j), got.At(i, j), 1e-12*big, "(%d,%d)", i, j)
+				}
+			}
+			require.InDelta(t, tc.ref.MinEigenvalue, rep.Repair.MinEigenvalue, 1e-12*big)
+			require.Equal(t, tc.ref.Clipped, rep.Repair.Clipped)
+		})
+	}
 }
