@@ -167,3 +167,36 @@ func TestRepairNumpy(t *testing.T) {
 		})
 	}
 }
+
+// TestSubspaceRejects: a symmetric matrix that is not of the estimators'
+// form (full rank, while the sums claim every column complete over 10
+// dates) fails the probe, so makePSD takes the full decomposition and
+// still repairs it as the full route does.
+func TestSubspaceRejects(t *testing.T) {
+	const n = 120
+	rng := rand.New(rand.NewPCG(4, 4))
+	a := mat.NewSymDense(n, nil)
+	for i := 0; i < n; i++ {
+		for j := i; j < n; j++ {
+			a.SetSym(i, j, rng.NormFloat64())
+		}
+	}
+	m := &sums{n: n, used: 10}
+	c := mat.NewSymDense(n, nil)
+	c.CopySym(a)
+	_, _, ok := subspaceEigen(c, m)
+	require.False(t, ok)
+
+	var route string
+	repairRoute = func(r string) { route = r }
+	got := mat.NewSymDense(n, nil)
+	got.CopySym(a)
+	rep := makePSD(got, m)
+	repairRoute = nil
+	require.Equal(t, "full", route)
+	want := mat.NewSymDense(n, nil)
+	want.CopySym(a)
+	wrep := makePSDFull(want)
+	require.Equal(t, *wrep, *rep)
+	require.True(t, mat.Equal(want, got))
+}
