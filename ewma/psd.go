@@ -17,16 +17,21 @@ import (
 // Eigenvalues down to −tol count as zero (rounding), tol = n·ε·max|λ|; they
 // are set to zero too but not counted in Repair.Clipped. It returns nil if no
 // repair was needed. m, when not nil, holds the sums a was finished from; it
-// tells which columns were observed on every used date (see spanBasis).
+// tells which columns were observed on every used date (see subspaceEigen).
 //
 // The check is first a Cholesky factorization on all cores (N³/3 flops):
 // a positive definite a needs nothing more. Otherwise the eigenpairs come
-// from the smallest subspace known to hold the range of a (spanBasis), when
+// from the smallest subspace known to hold the range of a (subspaceEigen), when
 // that subspace has at most two thirds of the dimension of a and a probe confirms
 // that a lies in it to rounding; the eigenvalues of a outside it are then
 // exactly zero and need no clipping. Failing that, from gonum's
 // eigendecomposition of a (O(N³), single-threaded). Cost with the subspace
 // of dimension k: O(N²·k) on all cores plus a k×k eigendecomposition.
+//
+// References: Higham, N. J. (1988), "Computing a nearest symmetric positive
+// semidefinite matrix", Linear Algebra Appl. 103:103–118 (the clipping);
+// Halko, N., Martinsson, P. G. and Tropp, J. A. (2011), "Finding structure
+// with randomness", SIAM Review 53(2):217–288 (the sketch and the probe).
 func makePSD(a *mat.SymDense, m *sums) *Repair {
 	n := a.SymmetricDim()
 	if big := maxAbsSym(a); big > 1e150 {

@@ -269,7 +269,7 @@ var errVariancesOnly = "ewma: Recursive state keeps variances only"
 // Weights(Len, HalfLife) and the state's Options, and returns dst with
 // diagnostics.
 // With missing values (and CompleteCase off) the result is checked and, if
-// needed, repaired as in Covariance, which costs O(N³); otherwise the cost
+// needed, repaired as in Covariance, at the cost given there; otherwise the cost
 // is O(N²).
 //
 // A nil or empty dst is allocated. It panics with mat.ErrShape if dst is
