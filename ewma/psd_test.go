@@ -5,6 +5,7 @@ import (
 	"math"
 	"math/rand/v2"
 	"os"
+	"runtime"
 	"testing"
 
 	"github.com/stretchr/testify/require"
@@ -199,4 +200,26 @@ func TestSubspaceRejects(t *testing.T) {
 	wrep := makePSDFull(want)
 	require.Equal(t, *wrep, *rep)
 	require.True(t, mat.Equal(want, got))
+}
+
+// TestSubspaceRepairDeterministic: the subspace repair gives the same bits
+// for any GOMAXPROCS (the sketch and probes are seeded, the products sum in
+// a fixed order).
+func TestSubspaceRepairDeterministic(t *testing.T) {
+	rng := rand.New(rand.NewPCG(17, 5))
+	x := gappyPanel(rng, 60, 600, 30)
+	run := func(procs int) *mat.SymDense {
+		defer runtime.GOMAXPROCS(runtime.GOMAXPROCS(procs))
+		got, rep, err := Estimate(nil, x, Settings{VolHalfLife: 10, CorrHalfLife: 20})
+		require.NoError(t, err)
+		require.NotNil(t, rep.Repair)
+		return got
+	}
+	one, four := run(1), run(4)
+	n := one.SymmetricDim()
+	for i := 0; i < n; i++ {
+		for j := i; j < n; j++ {
+			require.Equal(t, math.Float64bits(one.At(i, j)), math.Float64bits(four.At(i, j)), "(%d,%d)", i, j)
+		}
+	}
 }
