@@ -42,8 +42,8 @@ func Gaussian(r, c int, seed uint64) *mat.Dense {
 
 // Orthonormalize returns an N×r matrix Q with orthonormal columns whose
 // range holds the range of the N×m matrix k to working precision, r ≤ m;
-// a column of k whose part outside the span of the others is below
-// 1e-13 of its norm adds no column. It returns an N×0 matrix for a zero k.
+// a column of k whose part outside the span found is at most 4e-13 of its
+// norm adds no column. It returns an empty matrix for a zero k.
 //
 // Each round scales the remaining columns to unit norm, factors their Gram
 // matrix G = WᵀW by a Cholesky factorization with diagonal pivoting,
@@ -53,7 +53,9 @@ func Gaussian(r, c int, seed uint64) *mat.Dense {
 // The columns the pivoting left out are projected off the span found so far
 // (classical Gram–Schmidt, twice) and go to the next round, rescaled, so
 // directions that are small in k are not lost to the squaring. At most
-// eight rounds. Cost about 6·N·m² flops on all cores, plus O(m³)
+// eight rounds: a k whose directions span more decades than that resolves
+// may come back short, which the callers' probe (SubspaceEigen.Residual)
+// detects. Cost about 6·N·m² flops on all cores, plus O(m³)
 // single-threaded for the m×m factorizations.
 //
 // References: Fukaya, T., Nakatsukasa, Y., Yanagisawa, Y. and Yamamoto, Y.
@@ -385,9 +387,10 @@ func (e *SubspaceEigen) Factorize(a, q *mat.Dense) bool {
 // Tropp (2011), Algorithm 4.2, in blocks of b = 64 Gaussian probes from a
 // fixed seed: each block Y = (I − QQᵀ)·a·Ω is orthonormalized and appended
 // to Q (Orthonormalize, then projected off Q again), until a whole block
-// leaves nothing outside range(Q) but rounding, at most 1e-12 of the norm
-// of a·Ω's columns; with probability at least 1 − 10⁻⁶⁴ such a block means
-// ‖(I − QQᵀ)a‖ is within a small multiple of that (§4.3). Cost 2·N²·(r + b)
+// leaves nothing outside range(Q) but rounding, δ = max_j ‖y_j‖ at most
+// 1e-12 of the norm of the column of a·Ω it came from; then ‖(I − QQᵀ)a‖ ≤
+// 10·√(2/π)·δ with probability at least 1 − 10⁻⁶⁴ (§4.3, eq. (4.3)). The
+// callers confirm with SubspaceEigen.Residual. Cost 2·N²·(r + b)
 // flops for the probes and about 8·N·r·(r + b) for the projections, all
 // on the multi-core kernel, plus O(b³) per block.
 //
