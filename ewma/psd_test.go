@@ -82,6 +82,13 @@ func TestMakePSDSubspace(t *testing.T) {
 			return Estimate(d, x, Settings{VolHalfLife: 10, CorrHalfLife: 20, NeweyWestLags: 2})
 		}},
 	}
+	if testing.Short() {
+		// One of each kind: covariance, correlation, Newey–West, Estimate.
+		cases = []struct {
+			name string
+			f    est
+		}{cases[1], cases[2], cases[5], cases[7]}
+	}
 	for _, tc := range cases {
 		t.Run(tc.name, func(t *testing.T) {
 			var route string
@@ -208,6 +215,9 @@ func TestSubspaceRejects(t *testing.T) {
 func TestSubspaceRepairDeterministic(t *testing.T) {
 	rng := rand.New(rand.NewPCG(17, 5))
 	x := gappyPanel(rng, 60, 600, 30)
+	if testing.Short() {
+		x = gappyPanel(rng, 30, 300, 15)
+	}
 	run := func(procs int) *mat.SymDense {
 		defer runtime.GOMAXPROCS(runtime.GOMAXPROCS(procs))
 		got, rep, err := Estimate(nil, x, Settings{VolHalfLife: 10, CorrHalfLife: 20})

@@ -56,6 +56,9 @@ func TestFloorLowRank(t *testing.T) {
 		{"nearest psd, zero floor", 3, -1},
 		{"nearest psd, floor", 0, 1e-3},
 	}
+	if testing.Short() {
+		cases = cases[1:3]
+	}
 	for _, tc := range cases {
 		t.Run(tc.name, func(t *testing.T) {
 			a := lowRank(tc.neg)
