@@ -220,8 +220,12 @@ func TestSubspaceRepairDeterministic(t *testing.T) {
 	}
 	run := func(procs int) *mat.SymDense {
 		defer runtime.GOMAXPROCS(runtime.GOMAXPROCS(procs))
+		var route string
+		repairRoute = func(r string) { route = r }
 		got, rep, err := Estimate(nil, x, Settings{VolHalfLife: 10, CorrHalfLife: 20})
+		repairRoute = nil
 		require.NoError(t, err)
+		require.Equal(t, "subspace", route)
 		require.NotNil(t, rep.Repair)
 		return got
 	}
