@@ -20,15 +20,25 @@ import (
 //
 // Missing data are handled pairwise unless opts.CompleteCase is set. When a
 // value is missing the pairwise matrix is checked for positive
-// semidefiniteness (a Cholesky factorization, then an eigendecomposition if
-// that fails) and repaired if needed; Report.Repair says how.
+// semidefiniteness (a Cholesky factorization on all cores, then an
+// eigendecomposition if that fails) and repaired if needed; Report.Repair
+// says how. The eigendecomposition is of order N only when it must be: the
+// F×F block of the columns observed on every used date has rank at most U,
+// the number of used dates, so with |P| gapped columns the matrix lives in
+// a subspace of dimension at most U + 8 + 2|P|, found and checked by a
+// sketch and a probe (see the repair in psd.go); when that is at most 2N/3
+// the decomposition is of that order and the N − (U + 8 + 2|P|) others are
+// exactly zero.
 //
 // A nil or empty dst is allocated. Covariance panics with mat.ErrShape if
 // len(w) ≠ T or dst is neither nil, empty nor N×N. It returns an error wrapping ErrWeight,
 // ErrNonFinite (an Inf in x, or an entry that overflows), ErrAllMissing, ErrTooFewObs (a column or pair with
 // fewer than 2 common observations) or ErrEffectiveObs (a pair below
 // opts.MinEffectiveObs). Cost: one to four O(T·N²) products on all cores
-// through internal/dense, plus O(N³) for the check when data are missing.
+// through internal/dense; when data are missing, N³/3 flops on all cores for
+// the Cholesky check and, if it fails, O(N²·k) on all cores plus a k×k
+// eigendecomposition (gonum, single-threaded) with k ≤ U + 8 + 2|P| when
+// k ≤ 2N/3, else one of order N (O(N³), single-threaded).
 //
 // References: pandas 1.5.3, DataFrame.ewm(halflife=h, adjust=True).cov();
 // Higham, N. J. (1988), "Computing a nearest symmetric positive semidefinite
@@ -48,7 +58,7 @@ func Covariance(dst *mat.SymDense, x mat.Matrix, w []float64, opts *Options) (*m
 	}
 	if m.wt != nil {
 		rep.Checked = true
-		rep.Repair = makePSD(dst)
+		rep.Repair = makePSD(dst, m)
 	}
 	return dst, rep, nil
 }
@@ -98,7 +108,7 @@ func finishCorr(dst *mat.SymDense, m *sums, o Options, rep *Report) error {
 	}
 	if m.wt != nil {
 		rep.Checked = true
-		rep.Repair = makePSD(dst)
+		rep.Repair = makePSD(dst, m)
 	}
 	return nil
 }

@@ -117,7 +117,7 @@ func Estimate(dst *mat.SymDense, x mat.Matrix, s Settings) (*mat.SymDense, *Repo
 	}
 	if m.wt != nil || lags > 0 {
 		rep.Checked = true
-		rep.Repair = makePSD(dst)
+		rep.Repair = makePSD(dst, m)
 	}
 	rep.VolEffectiveObs = EffectiveObs(wv)
 

@@ -4,8 +4,6 @@ import (
 	"math"
 
 	"gonum.org/v1/gonum/mat"
-
-	"github.com/riskmodel/riskmodel/internal/dense"
 )
 
 // finishCov writes the covariance of m into dst (upper triangle, then
@@ -110,75 +108,6 @@ func normalise(dst *mat.SymDense) error {
 		row[i] = 1
 	}
 	return nil
-}
-
-// makePSD checks that the symmetric a is positive semidefinite and, if not,
-// sets its negative eigenvalues to zero and rescales to the original
-// diagonal: a ← D^½ Â D^½ with Â = V max(Λ, 0) Vᵀ and D = diag(a)/diag(Â).
-// Eigenvalues down to −tol·max|λ| count as zero (rounding), tol = n·ε.
-// It returns nil if no repair was needed. Cost O(n³).
-func makePSD(a *mat.SymDense) *Repair {
-	n := a.SymmetricDim()
-	if big := maxAbsSym(a); big > 1e150 {
-		// Near overflow, the Cholesky check's products overflow and it can
-		// pass a matrix that is not PSD: check and repair a scaled copy.
-		scaled := mat.NewSymDense(n, nil)
-		scaled.ScaleSym(1/big, a)
-		rep := makePSD(scaled)
-		if rep != nil {
-			a.ScaleSym(big, scaled)
-			rep.MinEigenvalue *= big
-			rep.MaxChange *= big
-		}
-		return rep
-	}
-	var ch mat.Cholesky
-	if ch.Factorize(a) {
-		return nil
-	}
-	var es mat.EigenSym
-	if !es.Factorize(a, true) {
-		// Not reached for finite input; leave the matrix and say so.
-		return &Repair{MinEigenvalue: math.NaN()}
-	}
-	vals := es.Values(nil)
-	top := math.Max(math.Abs(vals[0]), math.Abs(vals[n-1]))
-	tol := float64(n) * 0x1p-52 * top
-	if vals[0] >= -tol {
-		return nil
-	}
-	rep := &Repair{MinEigenvalue: vals[0]}
-	var v mat.Dense
-	es.VectorsTo(&v)
-	for j, l := range vals {
-		if l < 0 {
-			rep.Clipped++
-			l = 0
-		}
-		s := math.Sqrt(l)
-		for i := 0; i < n; i++ {
-			v.Set(i, j, v.At(i, j)*s)
-		}
-	}
-	b := dense.XtWX(nil, v.T(), nil) // V·Vᵀ
-	scale := make([]float64, n)
-	for i := range scale {
-		scale[i] = 1
-		// A diagonal that is not positive (a Newey–West variance can be
-		// negative) cannot be restored: keep the clipped matrix's there,
-		// rather than a NaN from the square root of a negative ratio.
-		if d, o := b.At(i, i), a.At(i, i); d > 0 && o > 0 {
-			scale[i] = math.Sqrt(o / d)
-		}
-	}
-	for i := 0; i < n; i++ {
-		for j := i; j < n; j++ {
-			nv := b.At(i, j) * scale[i] * scale[j]
-			rep.MaxChange = math.Max(rep.MaxChange, math.Abs(nv-a.At(i, j)))
-			a.SetSym(i, j, nv)
-		}
-	}
-	return rep
 }
 
 // mirror copies the computed upper triangle of a raw n×n row-major buffer

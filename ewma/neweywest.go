@@ -79,7 +79,7 @@ func NeweyWest(dst *mat.SymDense, x mat.Matrix, w []float64, lags int, opts *Opt
 	}
 	if m.wt != nil || lags > 0 {
 		rep.Checked = true
-		rep.Repair = makePSD(dst)
+		rep.Repair = makePSD(dst, m)
 	}
 	return dst, rep, nil
 }

@@ -64,6 +64,11 @@ type Report struct {
 // the original diagonal.
 type Repair struct {
 	MinEigenvalue float64 // the smallest eigenvalue before the repair
-	Clipped       int     // the number of eigenvalues set to zero
-	MaxChange     float64 // the largest absolute change of an entry
+	// Clipped is the number of eigenvalues below −N·ε·max|λ|, negative
+	// beyond rounding, that were set to zero. Those within rounding of zero
+	// are set to zero too but not counted: they are an artefact of the
+	// arithmetic (an N×N matrix of rank k < N has N − k of them, about half
+	// computed negative).
+	Clipped   int
+	MaxChange float64 // the largest absolute change of an entry
 }

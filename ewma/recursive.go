@@ -269,7 +269,7 @@ var errVariancesOnly = "ewma: Recursive state keeps variances only"
 // Weights(Len, HalfLife) and the state's Options, and returns dst with
 // diagnostics.
 // With missing values (and CompleteCase off) the result is checked and, if
-// needed, repaired as in Covariance, which costs O(N³); otherwise the cost
+// needed, repaired as in Covariance, at the cost given there; otherwise the cost
 // is O(N²).
 //
 // A nil or empty dst is allocated. It panics with mat.ErrShape if dst is
@@ -291,7 +291,7 @@ func (r *Recursive) CovarianceTo(dst *mat.SymDense) (*mat.SymDense, *Report, err
 	}
 	if r.missing > 0 {
 		rep.Checked = true
-		rep.Repair = makePSD(dst)
+		rep.Repair = makePSD(dst, m)
 	}
 	return dst, rep, nil
 }
@@ -317,7 +317,7 @@ func (r *Recursive) CorrelationTo(dst *mat.SymDense) (*mat.SymDense, *Report, er
 	}
 	if r.missing > 0 {
 		rep.Checked = true
-		rep.Repair = makePSD(dst)
+		rep.Repair = makePSD(dst, m)
 	}
 	return dst, rep, nil
 }

@@ -34,10 +34,29 @@ type Repair struct {
 // A nil or empty dst is allocated; a wrong-sized dst panics with
 // mat.ErrShape. Errors: a *DataError wrapping ErrNonFinite naming the first
 // non-finite entry, ErrBadParameter for a negative or non-finite floor,
-// ErrNoEigen. Cost O(N³) (one eigendecomposition).
+// ErrNoEigen. Cost O(N³) (one eigendecomposition), except for a singular a
+// of rank k ≤ 2N/3 (see Low rank below).
+//
+// Low rank: when a is not positive definite (a Cholesky factorization on
+// all cores, N³/3 flops, fails) and its range has dimension k ≤ 2N/3 (an
+// adaptive randomized range finder, Halko, Martinsson and Tropp 2011,
+// Algorithm 4.2), a = UΛUᵀ comes from the k×k matrix QᵀaQ for the
+// orthonormal basis Q of that range, accepted when a probe puts the part of
+// a outside it at rounding (64·N·ε·max|λ|); the other N − k eigenvalues are
+// zero, and
+//
+//	result = a + f·I − Σ_k min(λ_k, f)·u_k u_kᵀ,   f = floor,
+//
+// raises them with the others below f without forming their eigenvectors.
+// The report then counts the N − k zeros as Changed when f > 0, and
+// MinBefore is min(λ_1, 0) with CondBefore = +Inf (the full route reports
+// the rounding-level values it computes for them instead). Cost O(N²·k) on
+// all cores plus a k×k eigendecomposition (gonum, single-threaded).
 //
 // References: Higham, N. J. (1988), "Computing a nearest symmetric positive
-// semidefinite matrix", Linear Algebra Appl. 103:103–118.
+// semidefinite matrix", Linear Algebra Appl. 103:103–118; Halko, N.,
+// Martinsson, P. G. and Tropp, J. A. (2011), "Finding structure with
+// randomness", SIAM Review 53(2):217–288.
 func NearestPSD(dst *mat.SymDense, a mat.Symmetric, floor float64) (*mat.SymDense, Repair, error) {
 	dense.CheckSym(dst, a.SymmetricDim())
 	if !(floor >= 0) || math.IsInf(floor, 0) {
@@ -58,7 +77,9 @@ func NearestPSD(dst *mat.SymDense, a mat.Symmetric, floor float64) (*mat.SymDens
 //
 // Panics as NearestPSD. Errors: as NearestPSD, ErrBadParameter when maxCond
 // < 1 or is NaN, and a *DataError wrapping ErrBadParameter when λ_max ≤ 0
-// (no positive eigenvalue to scale from). Cost O(N³).
+// (no positive eigenvalue to scale from). Cost as NearestPSD, low rank
+// included: a rank-deficient a, such as a repaired pairwise estimate with
+// N above the number of dates, costs O(N²·k) and a k×k eigendecomposition.
 //
 // References: common practice, no single source (eigenvalue floor relative
 // to the largest eigenvalue); see also Higham (1988) for the nearest PSD.
@@ -77,6 +98,9 @@ func floorEigen(dst *mat.SymDense, a mat.Symmetric, floor, maxCond float64) (*ma
 	c, err := checkSym(a)
 	if err != nil {
 		return dst, Repair{}, err
+	}
+	if vals, u, ok := lowRankEigen(c); ok {
+		return floorLowRank(dst, c, vals, u, floor, maxCond)
 	}
 	vals, vecs, err := eigen(c)
 	if err != nil {

@@ -24,26 +24,41 @@ func eigen(a mat.Symmetric) ([]float64, *mat.Dense, error) {
 
 // recompose sets dst to Σ_k d_k u_k u_kᵀ + c·I for the rows u_k of u, and
 // returns it. Coefficients of either sign are split so that the products
-// still go through the multi-core kernel, which takes non-negative weights.
+// still go through the multi-core kernel, which takes non-negative weights;
+// each product takes only the rows of its sign, so a zero coefficient costs
+// nothing.
 func recompose(dst *mat.SymDense, u *mat.Dense, d []float64, c float64) *mat.SymDense {
 	_, n := u.Dims()
 	dst = dense.SizeSym(dst, n)
-	pos := make([]float64, len(d))
-	neg := make([]float64, len(d))
-	anyNeg := false
+	var pos, neg []int
 	for k, v := range d {
-		if v >= 0 {
-			pos[k] = v
-		} else {
-			neg[k] = -v
-			anyNeg = true
+		switch {
+		case v > 0:
+			pos = append(pos, k)
+		case v < 0:
+			neg = append(neg, k)
 		}
 	}
-	dense.XtWX(dst, u, pos)
-	if anyNeg {
-		m := dense.XtWX(nil, u, neg)
-		m.ScaleSym(-1, m)
-		dst.AddSym(dst, m)
+	part := func(rows []int, sign float64) (*mat.Dense, []float64) {
+		m := mat.NewDense(len(rows), n, nil)
+		w := make([]float64, len(rows))
+		for i, k := range rows {
+			m.SetRow(i, u.RawRowView(k))
+			w[i] = sign * d[k]
+		}
+		return m, w
+	}
+	if len(pos) > 0 {
+		m, w := part(pos, 1)
+		dense.XtWX(dst, m, w)
+	} else {
+		dst.Zero()
+	}
+	if len(neg) > 0 {
+		m, w := part(neg, -1)
+		s := dense.XtWX(nil, m, w)
+		s.ScaleSym(-1, s)
+		dst.AddSym(dst, s)
 	}
 	if c != 0 {
 		for i := 0; i < n; i++ {
