@@ -3,10 +3,8 @@ package te
 import (
 	"math"
 	"slices"
-	"sync/atomic"
 
 	"gonum.org/v1/gonum/blas"
-	"gonum.org/v1/gonum/blas/blas64"
 	"gonum.org/v1/gonum/mat"
 
 	"github.com/riskmodel/riskmodel/internal/dense"
@@ -42,44 +40,8 @@ type Group struct {
 // labels each time. It is read-only and safe for concurrent use.
 type Grouping struct {
 	names   []string // distinct labels, increasing
-	of      []int    // group of each asset
+	of      []int    // group of each asset, an index into names
 	members [][]int  // assets of each group, increasing
-
-	// gathered caches the rows of one Analyzer's loadings B in member
-	// order, group after group, so that each group's exposures Bᵀa_g are
-	// one pass over contiguous rows. It is built on first use by
-	// GroupsTo and replaced when another Analyzer asks.
-	gathered atomic.Pointer[gatheredRows]
-}
-
-// gatheredRows is B (N×K) of the Analyzer an, its rows reordered as the
-// groups' members: row r of b is asset order[r] = the r-th member, groups
-// in order, start[g] the first row of group g.
-type gatheredRows struct {
-	an    *Analyzer
-	b     []float64
-	order []int
-	start []int
-}
-
-// rowsFor returns the loadings of a gathered by group, building them once
-// per Grouping and Analyzer. Cost O(N·K) the first time, O(1) after.
-func (g *Grouping) rowsFor(a *Analyzer) *gatheredRows {
-	if c := g.gathered.Load(); c != nil && c.an == a {
-		return c
-	}
-	k := a.k
-	c := &gatheredRows{an: a, b: make([]float64, len(g.of)*k), order: make([]int, 0, len(g.of)), start: make([]int, len(g.members)+1)}
-	for gi, m := range g.members {
-		c.start[gi] = len(c.order)
-		c.order = append(c.order, m...)
-	}
-	c.start[len(g.members)] = len(c.order)
-	for r, i := range c.order {
-		copy(c.b[r*k:(r+1)*k], a.b.Data[i*a.b.Stride:i*a.b.Stride+k])
-	}
-	g.gathered.Store(c)
-	return c
 }
 
 // NewGrouping prepares a labelling of len(labels) assets. The labels are
@@ -122,13 +84,12 @@ func (d *Decomposition) Groups(labels []string) []Group {
 // GroupsTo sets dst to the decomposition by group, one Group per distinct
 // label in increasing order of label, and returns it. A nil or empty dst is
 // allocated; a dst whose length is not the number of groups panics with
-// mat.ErrShape. The group contributions are sums of the
-// asset contributions, so they sum to TE.
+// mat.ErrShape. The group contributions are sums of the asset
+// contributions, so they sum to TE.
 //
 // GroupsTo panics with mat.ErrShape if the grouping does not label N assets.
-// Cost O(N·K + G·K²) in factor form for G groups (the first call with a
-// Grouping and an Analyzer also copies B, N·K values, gathered by group), O(N + Σ_g n_g²) dense (n_g
-// members of group g).
+// Cost O(N·K + G·K²) in factor form for G groups (one pass over B, in asset
+// order), O(N + Σ_g n_g²) dense (n_g members of group g).
 //
 // References:
 //
@@ -166,36 +127,41 @@ func (d *Decomposition) GroupsTo(dst []Group, gr *Grouping) []Group {
 func (d *Decomposition) groupSums(gs []Group, gr *Grouping) []float64 {
 	a := d.an
 	n, ng := a.n, len(gr.names)
-	v := make([]float64, ng)
 	act, ct := d.Active[:n], d.Contribution[:n]
 	if a.factored {
-		k := a.k
-		rows := gr.rowsFor(a)
-		// The active weights in member order, then x_g and F·x_g.
-		d.gsc = grow(d.gsc, n+2*k)
-		ag, x, fx := d.gsc[:n], d.gsc[n:n+k], d.gsc[n+k:]
+		k, kp := a.k, a.kp
+		// Row g of xs is the group's exposures x_g = B_gᵀa_g, all groups
+		// from one pass over B in asset order; the sums over members run
+		// in the same pass order, increasing asset index in each group.
+		d.gsc = grow(d.gsc, ng*kp+kp+6*ng)
+		xs, fx, sums := d.gsc[:ng*kp], d.gsc[ng*kp:ng*kp+kp], d.gsc[ng*kp+kp:]
+		clear(xs)
+		clear(sums)
+		scatter(a.b.Data, kp, n, kp, act, gr.of, xs)
 		sd, fp, spp := a.d[:n], d.FactorPart[:n], d.SpecificPart[:n]
+		of := gr.of[:n]
+		for i, g := range of {
+			ai := act[i]
+			s := sums[5*g : 5*g+5]
+			s[0] += ai
+			s[1] += ct[i]
+			s[2] += fp[i]
+			s[3] += spp[i]
+			s[4] += sd[i] * ai * ai
+		}
+		v := sums[5*ng:]
 		for g := range v {
-			lo, hi := rows.start[g], rows.start[g+1]
-			var aw, c, f, sp, spec float64
-			for r, i := range rows.order[lo:hi] {
-				ai := act[i]
-				ag[lo+r] = ai
-				aw += ai
-				c += ct[i]
-				f += fp[i]
-				sp += spp[i]
-				spec += sd[i] * ai * ai
-			}
+			s := sums[5*g : 5*g+5]
 			p := &gs[g]
-			p.ActiveWeight, p.Contribution, p.Factor, p.Specific = aw, c, f, sp
-			b := blas64.General{Rows: hi - lo, Cols: k, Stride: k, Data: rows.b[lo*k : hi*k]}
-			dense.MulVecT(x, b, ag[lo:hi])
-			gemv(blas.NoTrans, a.f, x, fx)
-			v[g] = spec + max(0, dot(x, fx))
+			p.ActiveWeight, p.Contribution, p.Factor, p.Specific = s[0], s[1], s[2], s[3]
+			x := xs[g*kp : g*kp+k]
+			gemv(blas.NoTrans, a.f, x, fx[:k])
+			v[g] = s[4] + max(0, dot(x, fx[:k]))
 		}
 		return v
 	}
+	d.gsc = grow(d.gsc, ng)
+	v := d.gsc
 	for g, m := range gr.members {
 		var aw, c float64
 		for _, i := range m {
