@@ -9,17 +9,39 @@ import "math"
 // zeros to kp, a multiple of 4, so the kernels have no column tail.
 
 // activeSums sets act = p − b and returns Σ d_i a_i², Σ d_i a_i b_i and
-// Σ d_i b_i², each summed in order of i, from one pass over p, b and D.
+// Σ d_i b_i², from one pass over p, b and D. Each sum runs in four lanes,
+// i ≡ 0, 1, 2, 3 mod 4 for i < N&^3, added as (lane0 + lane1) + (lane2 +
+// lane3), then the last assets in order; every product is rounded:
+// (d_i a_i)·a_i, (d_i a_i)·b_i, (d_i b_i)·b_i.
 func activeSums(act, p, b, d []float64) (saa, sab, sbb float64) {
 	n := len(act)
 	p, b, d = p[:n], b[:n], d[:n]
-	for i := range act {
+	var l [12]float64
+	n4 := activeSumsVec(act, p, b, d, &l)
+	if n4 == 0 {
+		n4 = n &^ 3
+		for i := 0; i < n4; i++ {
+			bi, di := b[i], d[i]
+			ai := p[i] - bi
+			act[i] = ai
+			t := float64(ai * di)
+			j := i & 3
+			l[j] += float64(t * ai)
+			l[4+j] += float64(t * bi)
+			l[8+j] += float64(float64(bi*di) * bi)
+		}
+	}
+	saa = (l[0] + l[1]) + (l[2] + l[3])
+	sab = (l[4] + l[5]) + (l[6] + l[7])
+	sbb = (l[8] + l[9]) + (l[10] + l[11])
+	for i := n4; i < n; i++ {
 		bi, di := b[i], d[i]
 		ai := p[i] - bi
 		act[i] = ai
-		saa += di * ai * ai
-		sab += di * ai * bi
-		sbb += di * bi * bi
+		t := float64(ai * di)
+		saa += float64(t * ai)
+		sab += float64(t * bi)
+		sbb += float64(float64(bi*di) * bi)
 	}
 	return saa, sab, sbb
 }
@@ -129,20 +151,52 @@ func factorFiguresGo(f *factorRows, lo int, te2, inv float64) {
 	}
 }
 
-// scatter adds x_i b_i (row i of b, kp values) to row of_i of acc (kp
-// values a row), for i < rows, one fused multiply-add a value in order of
-// i: row g of acc becomes Σ_{i: of_i = g} x_i b_i. Every of_i must be below
-// len(acc)/kp.
-func scatter(b []float64, ldb, rows, kp int, x []float64, of []int, acc []float64) {
-	if scatterVec(b, ldb, rows, kp, x, of, acc) {
-		return
-	}
-	for i := 0; i < rows; i++ {
-		row := b[i*ldb : i*ldb+kp]
-		g := acc[of[i]*kp : of[i]*kp+kp][:len(row)]
-		xi := x[i]
+// groupRows is what the group pass of the factor form reads and writes:
+// B (kp values a row, ldb apart), the group of each asset, and acc, a row
+// of kp + 8 values per group: the exposures x_g = Σ_{i∈g} a_i b_i, then
+// the sums over the members of a_i, ct_i, fp_i, sp_i and d_i a_i².
+type groupRows struct {
+	b          []float64
+	ldb, kp    int
+	act        []float64
+	of         []int
+	acc        []float64
+	ct, fp, sp []float64
+	d          []float64
+}
+
+// groupPtrs is groupRows as the kernel reads it, in the order of the
+// offsets in factor_amd64.s.
+type groupPtrs struct {
+	b          *float64
+	ldb, kp    int
+	act        *float64
+	of         *int
+	acc        *float64
+	ct, fp, sp *float64
+	d          *float64
+}
+
+// groupScatter adds each asset's terms to its group's row of g.acc, in
+// order of asset: the exposures one fused multiply-add a value, the sums
+// one rounded addition each, (d_i a_i)·a_i rounded before it is added.
+// Every group index must be below len(g.acc)/(kp + 8).
+func groupScatter(g *groupRows) {
+	done := groupScatterVec(g)
+	kp, w := g.kp, g.kp+8
+	for i := done; i < len(g.act); i++ {
+		row := g.b[i*g.ldb : i*g.ldb+kp]
+		r := g.acc[g.of[i]*w : g.of[i]*w+w]
+		x := r[:len(row)]
+		ai := g.act[i]
 		for c, v := range row {
-			g[c] = math.FMA(v, xi, g[c])
+			x[c] = math.FMA(v, ai, x[c])
 		}
+		s := r[kp : kp+5]
+		s[0] += ai
+		s[1] += g.ct[i]
+		s[2] += g.fp[i]
+		s[3] += g.sp[i]
+		s[4] += float64(g.d[i]*ai) * ai
 	}
 }

@@ -15,9 +15,6 @@ func exposures4AVX2(rows int, b *float64, ldb int, x1, x2, y1, y2 *float64)
 //go:noescape
 func factorFiguresAVX2(n4 int, p *factorPtrs, te2, inv float64)
 
-//go:noescape
-func scatterAVX2(rows, kp int, b *float64, ldb int, x *float64, of *int, acc *float64)
-
 // factorAVX2 reports whether the kernels of factor_amd64.s run; the tests
 // switch it off to compare them with the Go loops.
 var factorAVX2 = dense.VectorKernels()
@@ -59,15 +56,38 @@ func factorFiguresVec(f *factorRows, te2, inv float64) int {
 	return n4
 }
 
-// scatterVec does what scatterGo does and reports false, doing nothing,
-// where the kernel does not run.
-func scatterVec(b []float64, ldb, rows, kp int, x []float64, of []int, acc []float64) bool {
-	if !factorAVX2 || rows == 0 || kp == 0 {
-		return false
+//go:noescape
+func activeSumsAVX2(n4 int, p, b, d, act *float64, sums *[12]float64)
+
+//go:noescape
+func groupScatterAVX2(rows int, gp *groupPtrs)
+
+// activeSumsVec does activeSums' work for the first n&^3 assets, the
+// lanes of the sums in l, and returns how many it did (0 where the kernel
+// does not run).
+func activeSumsVec(act, p, b, d []float64, l *[12]float64) int {
+	n4 := len(act) &^ 3
+	if !factorAVX2 || n4 == 0 {
+		return 0
 	}
-	// of holds group indices below len(acc)/kp: a Grouping's, checked
-	// against the scratch size by the caller.
-	_, _, _ = b[(rows-1)*ldb+kp-1], x[rows-1], of[rows-1]
-	scatterAVX2(rows, kp, &b[0], ldb, &x[0], &of[0], &acc[0])
-	return true
+	_, _, _ = p[n4-1], b[n4-1], d[n4-1]
+	activeSumsAVX2(n4, &p[0], &b[0], &d[0], &act[0], l)
+	return n4
+}
+
+// groupScatterVec does groupScatter's work for every asset and returns
+// how many it did (0 where the kernel does not run).
+func groupScatterVec(g *groupRows) int {
+	n := len(g.act)
+	if !factorAVX2 || n == 0 || g.kp == 0 {
+		return 0
+	}
+	// of holds group indices below len(acc)/(kp + 8): a Grouping's,
+	// checked against the scratch size by the caller.
+	_, _, _ = g.b[(n-1)*g.ldb+g.kp-1], g.of[n-1], g.acc[g.kp+7]
+	_, _, _, _ = g.ct[n-1], g.fp[n-1], g.sp[n-1], g.d[n-1]
+	p := groupPtrs{b: &g.b[0], ldb: g.ldb, kp: g.kp, act: &g.act[0], of: &g.of[0], acc: &g.acc[0],
+		ct: &g.ct[0], fp: &g.fp[0], sp: &g.sp[0], d: &g.d[0]}
+	groupScatterAVX2(n, &p)
+	return n
 }

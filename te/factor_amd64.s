@@ -207,46 +207,107 @@ fin:
 	VZEROUPPER
 	RET
 
-// func scatterAVX2(rows, kp int, b *float64, ldb int, x *float64, of *int, acc *float64)
-// For i < rows and c < kp (a multiple of 4): acc[of_i·kp + c] gets
-// b_ic·x_i by one fused multiply-add, in order of i: row g of acc (kp
-// values) is Σ_{i: of_i = g} x_i b_i.
-TEXT ·scatterAVX2(SB), NOSPLIT, $0-56
-	MOVQ rows+0(FP), CX
-	MOVQ kp+8(FP), R8
-	MOVQ b+16(FP), SI
-	MOVQ ldb+24(FP), R9
-	SHLQ $3, R9
-	MOVQ x+32(FP), DI
-	MOVQ of+40(FP), R11
-	MOVQ acc+48(FP), R12
-	MOVQ R8, R13
-	SHLQ $3, R13                   // kp·8, the bytes of one group's row
+// func activeSumsAVX2(n4 int, p, b, d, act *float64, sums *[12]float64)
+// For i < n4 (a multiple of 4), four assets a step: act_i = p_i − b_i and,
+// with t = a_i·d_i, the lanes (i mod 4) of Σ t·a_i, Σ t·b_i and
+// Σ (d_i·b_i)·b_i, each product rounded, written to sums[0:4], [4:8],
+// [8:12].
+TEXT ·activeSumsAVX2(SB), NOSPLIT, $0-48
+	MOVQ n4+0(FP), CX
+	MOVQ p+8(FP), SI
+	MOVQ b+16(FP), DI
+	MOVQ d+24(FP), R8
+	MOVQ act+32(FP), R9
+	MOVQ sums+40(FP), DX
+	VXORPD Y0, Y0, Y0
+	VXORPD Y1, Y1, Y1
+	VXORPD Y2, Y2, Y2
 	XORQ AX, AX
 
-srow:
+act4:
 	CMPQ AX, CX
-	JGE  sdone
-	VBROADCASTSD (DI)(AX*8), Y0
+	JGE  act_done
+	VMOVUPD (SI)(AX*8), Y4
+	VMOVUPD (DI)(AX*8), Y5
+	VMOVUPD (R8)(AX*8), Y3
+	VSUBPD  Y5, Y4, Y4          // a = p − b
+	VMOVUPD Y4, (R9)(AX*8)
+	VMULPD  Y3, Y4, Y6          // t = a·d
+	VMULPD  Y4, Y6, Y7
+	VADDPD  Y7, Y0, Y0
+	VMULPD  Y5, Y6, Y7
+	VADDPD  Y7, Y1, Y1
+	VMULPD  Y5, Y3, Y6
+	VMULPD  Y5, Y6, Y6
+	VADDPD  Y6, Y2, Y2
+	ADDQ    $4, AX
+	JMP     act4
+
+act_done:
+	VMOVUPD Y0, (DX)
+	VMOVUPD Y1, 32(DX)
+	VMOVUPD Y2, 64(DX)
+	VZEROUPPER
+	RET
+
+// func groupScatterAVX2(rows int, gp *groupPtrs)
+// For i < rows, with r the row of_i of acc (kp + 8 values a row): r[c] gets
+// b_ic·a_i for c < kp by one fused multiply-add, then r[kp:kp+4] gets
+// (a_i, ct_i, fp_i, sp_i) and r[kp+4] gets (d_i·a_i)·a_i, each one rounded
+// addition, in order of i.
+TEXT ·groupScatterAVX2(SB), NOSPLIT, $0-16
+	MOVQ rows+0(FP), CX
+	MOVQ gp+8(FP), DX
+	MOVQ 0(DX), SI                 // b
+	MOVQ 8(DX), R9                 // ldb
+	SHLQ $3, R9
+	MOVQ 16(DX), R8                // kp
+	MOVQ 24(DX), DI                // act
+	MOVQ 32(DX), R11               // of
+	MOVQ 40(DX), R12               // acc
+	LEAQ 8(R8), R13
+	SHLQ $3, R13                   // (kp + 8)·8, the bytes of one group's row
+	XORQ AX, AX
+
+grow:
+	CMPQ AX, CX
+	JGE  gdone
+	VMOVSD       (DI)(AX*8), X0    // a
+	VBROADCASTSD X0, Y1
 	MOVQ         (R11)(AX*8), R10
 	IMULQ        R13, R10
 	ADDQ         R12, R10
 	XORQ         BX, BX
 
-scol:
+gcol:
 	CMPQ        BX, R8
-	JGE         snext
-	VMOVUPD     (R10)(BX*8), Y1
-	VFMADD231PD (SI)(BX*8), Y0, Y1
-	VMOVUPD     Y1, (R10)(BX*8)
+	JGE         gsums
+	VMOVUPD     (R10)(BX*8), Y2
+	VFMADD231PD (SI)(BX*8), Y1, Y2
+	VMOVUPD     Y2, (R10)(BX*8)
 	ADDQ        $4, BX
-	JMP         scol
+	JMP         gcol
 
-snext:
-	ADDQ R9, SI
-	INCQ AX
-	JMP  srow
+gsums:
+	LEAQ        (R10)(R8*8), R10   // the sums after the exposures
+	MOVQ        48(DX), R14        // ct
+	VMOVHPD     (R14)(AX*8), X0, X2
+	MOVQ        56(DX), R14        // fp
+	VMOVSD      (R14)(AX*8), X3
+	MOVQ        64(DX), R14        // sp
+	VMOVHPD     (R14)(AX*8), X3, X3
+	VINSERTF128 $1, X3, Y2, Y2     // (a, ct, fp, sp)
+	VADDPD      (R10), Y2, Y2
+	VMOVUPD     Y2, (R10)
+	MOVQ        72(DX), R14        // d
+	VMULSD      (R14)(AX*8), X0, X4
+	VMULSD      X0, X4, X4
+	VADDSD      32(R10), X4, X4
+	VMOVSD      X4, 32(R10)
+	ADDQ        R9, SI
+	INCQ        AX
+	JMP         grow
 
-sdone:
+gdone:
 	VZEROUPPER
 	RET

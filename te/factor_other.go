@@ -6,6 +6,6 @@ func exposuresVec(b []float64, ldb, rows, kp int, x1, x2, y1, y2 []float64) bool
 
 func factorFiguresVec(f *factorRows, te2, inv float64) int { return 0 }
 
-func scatterVec(b []float64, ldb, rows, kp int, x []float64, of []int, acc []float64) bool {
-	return false
-}
+func activeSumsVec(act, p, b, d []float64, l *[12]float64) int { return 0 }
+
+func groupScatterVec(g *groupRows) int { return 0 }

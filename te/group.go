@@ -133,28 +133,18 @@ func (d *Decomposition) groupSums(gs []Group, gr *Grouping) []float64 {
 		// Row g of xs is the group's exposures x_g = B_gᵀa_g, all groups
 		// from one pass over B in asset order; the sums over members run
 		// in the same pass order, increasing asset index in each group.
-		d.gsc = grow(d.gsc, ng*kp+kp+6*ng)
-		xs, fx, sums := d.gsc[:ng*kp], d.gsc[ng*kp:ng*kp+kp], d.gsc[ng*kp+kp:]
-		clear(xs)
-		clear(sums)
-		scatter(a.b.Data, kp, n, kp, act, gr.of, xs)
-		sd, fp, spp := a.d[:n], d.FactorPart[:n], d.SpecificPart[:n]
-		of := gr.of[:n]
-		for i, g := range of {
-			ai := act[i]
-			s := sums[5*g : 5*g+5]
-			s[0] += ai
-			s[1] += ct[i]
-			s[2] += fp[i]
-			s[3] += spp[i]
-			s[4] += sd[i] * ai * ai
-		}
-		v := sums[5*ng:]
+		w := kp + 8
+		d.gsc = grow(d.gsc, ng*w+kp+ng)
+		acc, fx, v := d.gsc[:ng*w], d.gsc[ng*w:ng*w+kp], d.gsc[ng*w+kp:]
+		clear(acc)
+		groupScatter(&groupRows{b: a.b.Data, ldb: kp, kp: kp, act: act, of: gr.of, acc: acc,
+			ct: ct, fp: d.FactorPart[:n], sp: d.SpecificPart[:n], d: a.d[:n]})
 		for g := range v {
-			s := sums[5*g : 5*g+5]
+			r := acc[g*w : g*w+w]
+			s := r[kp : kp+5]
 			p := &gs[g]
 			p.ActiveWeight, p.Contribution, p.Factor, p.Specific = s[0], s[1], s[2], s[3]
-			x := xs[g*kp : g*kp+k]
+			x := r[:k]
 			gemv(blas.NoTrans, a.f, x, fx[:k])
 			v[g] = s[4] + max(0, dot(x, fx[:k]))
 		}
