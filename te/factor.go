@@ -153,37 +153,25 @@ func factorFiguresGo(f *factorRows, lo int, te2, inv float64) {
 
 // groupRows is what the group pass of the factor form reads and writes:
 // B (kp values a row, ldb apart), the group of each asset, and acc, a row
-// of kp + 8 values per group: the exposures x_g = Σ_{i∈g} a_i b_i, then
-// the sums over the members of a_i, ct_i, fp_i, sp_i and d_i a_i².
+// of kp + 4 values per group: the exposures x_g = Σ_{i∈g} a_i b_i, then
+// the sums over the members of a_i and d_i a_i².
 type groupRows struct {
-	b          []float64
-	ldb, kp    int
-	act        []float64
-	of         []int
-	acc        []float64
-	ct, fp, sp []float64
-	d          []float64
-}
-
-// groupPtrs is groupRows as the kernel reads it, in the order of the
-// offsets in factor_amd64.s.
-type groupPtrs struct {
-	b          *float64
-	ldb, kp    int
-	act        *float64
-	of         *int
-	acc        *float64
-	ct, fp, sp *float64
-	d          *float64
+	b            []float64
+	ldb, kp      int
+	act          []float64
+	of           []int // group of each asset
+	order, start []int // the members group by group, and where each starts
+	acc          []float64
+	d            []float64
 }
 
 // groupScatter adds each asset's terms to its group's row of g.acc, in
 // order of asset: the exposures one fused multiply-add a value, the sums
 // one rounded addition each, (d_i a_i)·a_i rounded before it is added.
-// Every group index must be below len(g.acc)/(kp + 8).
+// Every group index must be below len(g.acc)/(kp + 4).
 func groupScatter(g *groupRows) {
 	done := groupScatterVec(g)
-	kp, w := g.kp, g.kp+8
+	kp, w := g.kp, g.kp+4
 	for i := done; i < len(g.act); i++ {
 		row := g.b[i*g.ldb : i*g.ldb+kp]
 		r := g.acc[g.of[i]*w : g.of[i]*w+w]
@@ -192,11 +180,8 @@ func groupScatter(g *groupRows) {
 		for c, v := range row {
 			x[c] = math.FMA(v, ai, x[c])
 		}
-		s := r[kp : kp+5]
+		s := r[kp : kp+2]
 		s[0] += ai
-		s[1] += g.ct[i]
-		s[2] += g.fp[i]
-		s[3] += g.sp[i]
-		s[4] += float64(g.d[i]*ai) * ai
+		s[1] += float64(g.d[i]*ai) * ai
 	}
 }

@@ -60,7 +60,23 @@ func factorFiguresVec(f *factorRows, te2, inv float64) int {
 func activeSumsAVX2(n4 int, p, b, d, act *float64, sums *[12]float64)
 
 //go:noescape
-func groupScatterAVX2(rows int, gp *groupPtrs)
+func gather20AVX2(gp *gatherPtrs)
+
+//go:noescape
+func gather4AVX2(gp *gatherPtrs)
+
+// gatherPtrs is what gather20AVX2 and gather4AVX2 read, in the order of
+// the offsets in factor_amd64.s.
+type gatherPtrs struct {
+	b            *float64 // B at the first column of the pass
+	ldb          int
+	order, start *int
+	ng           int
+	act, accX    *float64 // accX: acc at the first column of the pass
+	stride       int      // bytes from one group's row of acc to the next
+	sums         int      // the member sums in this pass too (not 0)
+	d, accS      *float64 // accS: acc at column kp, the sums
+}
 
 // activeSumsVec does activeSums' work for the first n&^3 assets, the
 // lanes of the sums in l, and returns how many it did (0 where the kernel
@@ -76,18 +92,36 @@ func activeSumsVec(act, p, b, d []float64, l *[12]float64) int {
 }
 
 // groupScatterVec does groupScatter's work for every asset and returns
-// how many it did (0 where the kernel does not run).
+// how many it did (0 where the kernels do not run). The kernels go group
+// by group over the members in increasing order (Grouping.order), the
+// exposures in registers, twenty and then four columns a pass: for each
+// group the same operations in the same order as the loop in asset order.
 func groupScatterVec(g *groupRows) int {
 	n := len(g.act)
-	if !factorAVX2 || n == 0 || g.kp == 0 {
+	ng := len(g.start) - 1
+	if !factorAVX2 || n == 0 || g.kp == 0 || ng < 1 {
 		return 0
 	}
-	// of holds group indices below len(acc)/(kp + 8): a Grouping's,
-	// checked against the scratch size by the caller.
-	_, _, _ = g.b[(n-1)*g.ldb+g.kp-1], g.of[n-1], g.acc[g.kp+7]
-	_, _, _, _ = g.ct[n-1], g.fp[n-1], g.sp[n-1], g.d[n-1]
-	p := groupPtrs{b: &g.b[0], ldb: g.ldb, kp: g.kp, act: &g.act[0], of: &g.of[0], acc: &g.acc[0],
-		ct: &g.ct[0], fp: &g.fp[0], sp: &g.sp[0], d: &g.d[0]}
-	groupScatterAVX2(n, &p)
+	w := g.kp + 4
+	// order holds a permutation of the assets, start ng+1 offsets into it
+	// from 0 to N: a Grouping's, checked against the sizes here.
+	_, _, _ = g.b[(n-1)*g.ldb+g.kp-1], g.order[n-1], g.acc[ng*w-1]
+	_ = g.d[n-1]
+	if g.start[0] != 0 || g.start[ng] != n || len(g.order) != n || cap(g.order) < n+8 {
+		panic("te: grouping out of shape")
+	}
+	p := gatherPtrs{ldb: g.ldb, order: &g.order[0], start: &g.start[0], ng: ng, act: &g.act[0],
+		stride: 8 * w, sums: 1, d: &g.d[0], accS: &g.acc[g.kp]}
+	c := 0
+	for ; c+20 <= g.kp; c += 20 {
+		p.b, p.accX = &g.b[c], &g.acc[c]
+		gather20AVX2(&p)
+		p.sums = 0
+	}
+	for ; c < g.kp; c += 4 {
+		p.b, p.accX = &g.b[c], &g.acc[c]
+		gather4AVX2(&p)
+		p.sums = 0
+	}
 	return n
 }

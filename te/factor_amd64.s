@@ -114,22 +114,28 @@ e4_done:
 TEXT ·factorFiguresAVX2(SB), NOSPLIT, $0-32
 	MOVQ n4+0(FP), CX
 	MOVQ p+8(FP), R14
-	MOVQ 0(R14), SI   // b
+	MOVQ 0(R14), R15  // b
 	MOVQ 8(R14), R9   // ldb
 	SHLQ $3, R9
 	MOVQ 16(R14), R8  // kp
 	MOVQ 24(R14), DI  // fx
 	VBROADCASTSD te2+16(FP), Y13
 	VBROADCASTSD inv+24(FP), Y15
-	MOVQ $0x4059000000000000, R15 // 100.0
-	MOVQ R15, X14
+	MOVQ $0x4059000000000000, DX // 100.0
+	MOVQ DX, X14
 	VBROADCASTSD X14, Y14
 	VXORPD Y12, Y12, Y12
-	XORQ AX, AX
+	MOVQ CX, AX
 
+	// From the last four rows back to the first: the rows are
+	// independent, and the pass over the groups that follows finds the
+	// first rows of B (and of the vectors) still in cache.
 rows4:
-	CMPQ AX, CX
-	JGE  fin
+	SUBQ  $4, AX
+	JLT   fin
+	MOVQ  AX, SI
+	IMULQ R9, SI
+	ADDQ  R15, SI
 	LEAQ (SI)(R9*1), R10
 	LEAQ (R10)(R9*1), R11
 	LEAQ (R11)(R9*1), R12
@@ -156,7 +162,6 @@ reduce:
 	VPERM2F128 $0x21, Y6, Y5, Y7
 	VBLENDPD   $0x0C, Y6, Y5, Y8
 	VADDPD     Y7, Y8, Y8          // f, the factor part
-	LEAQ       (R12)(R9*1), SI     // the next four rows
 
 	MOVQ    32(R14), DX            // act
 	VMOVUPD (DX)(AX*8), Y0         // a
@@ -200,7 +205,6 @@ reduce:
 	VSQRTPD Y7, Y7
 	MOVQ    128(R14), DX           // ht
 	VMOVUPD Y7, (DX)(AX*8)
-	ADDQ    $4, AX
 	JMP     rows4
 
 fin:
@@ -250,64 +254,162 @@ act_done:
 	VZEROUPPER
 	RET
 
-// func groupScatterAVX2(rows int, gp *groupPtrs)
-// For i < rows, with r the row of_i of acc (kp + 8 values a row): r[c] gets
-// b_ic·a_i for c < kp by one fused multiply-add, then r[kp:kp+4] gets
-// (a_i, ct_i, fp_i, sp_i) and r[kp+4] gets (d_i·a_i)·a_i, each one rounded
-// addition, in order of i.
-TEXT ·groupScatterAVX2(SB), NOSPLIT, $0-16
-	MOVQ rows+0(FP), CX
-	MOVQ gp+8(FP), DX
-	MOVQ 0(DX), SI                 // b
+// func gather20AVX2(gp *gatherPtrs)
+// For each group g and c < 20: x_gc = Σ_{i∈g} a_i b_ic, one chain of
+// fused multiply-adds from 0 over the members in increasing order, the
+// sums in registers, written to accX + g·stride. When gp.sums is not 0,
+// also (Σ a_i, Σ ct_i, Σ fp_i, Σ sp_i) and Σ (d_i a_i)·a_i over the members
+// in the same order, one rounded addition each, to accS + g·stride.
+TEXT ·gather20AVX2(SB), NOSPLIT, $0-8
+	MOVQ gp+0(FP), DX
+	MOVQ 0(DX), SI                 // b, at the first column
 	MOVQ 8(DX), R9                 // ldb
 	SHLQ $3, R9
-	MOVQ 16(DX), R8                // kp
-	MOVQ 24(DX), DI                // act
-	MOVQ 32(DX), R11               // of
-	MOVQ 40(DX), R12               // acc
-	LEAQ 8(R8), R13
-	SHLQ $3, R13                   // (kp + 8)·8, the bytes of one group's row
-	XORQ AX, AX
+	MOVQ 16(DX), R11               // order
+	MOVQ 24(DX), R12               // start
+	MOVQ 32(DX), R8                // ng
+	MOVQ 40(DX), R13               // act
+	XORQ CX, CX
 
-grow:
-	CMPQ AX, CX
-	JGE  gdone
-	VMOVSD       (DI)(AX*8), X0    // a
-	VBROADCASTSD X0, Y1
-	MOVQ         (R11)(AX*8), R10
-	IMULQ        R13, R10
-	ADDQ         R12, R10
-	XORQ         BX, BX
+gather20avx2_group:
+	CMPQ CX, R8
+	JGE  gather20avx2_done
+	MOVQ (R12)(CX*8), AX
+	MOVQ 8(R12)(CX*8), BX
+	VXORPD Y0, Y0, Y0
+	VXORPD Y1, Y1, Y1
+	VXORPD Y2, Y2, Y2
+	VXORPD Y3, Y3, Y3
+	VXORPD Y4, Y4, Y4
+	VXORPD X5, X5, X5
+	VXORPD X6, X6, X6
 
-gcol:
-	CMPQ        BX, R8
-	JGE         gsums
-	VMOVUPD     (R10)(BX*8), Y2
-	VFMADD231PD (SI)(BX*8), Y1, Y2
-	VMOVUPD     Y2, (R10)(BX*8)
-	ADDQ        $4, BX
-	JMP         gcol
+gather20avx2_member:
+	CMPQ AX, BX
+	JGE  gather20avx2_store
+	MOVQ         64(R11)(AX*8), R10 // the member eight ahead (order is padded)
+	IMULQ        R9, R10
+	PREFETCHT0   (SI)(R10*1)
+	PREFETCHT0   64(SI)(R10*1)
+	PREFETCHT0   128(SI)(R10*1)
+	MOVQ         (R11)(AX*8), R15  // i
+	VMOVSD       (R13)(R15*8), X7  // a_i
+	VBROADCASTSD X7, Y8
+	MOVQ         R15, R10
+	IMULQ        R9, R10
+	ADDQ         SI, R10           // row i
+	VFMADD231PD (R10), Y8, Y0
+	VFMADD231PD 32(R10), Y8, Y1
+	VFMADD231PD 64(R10), Y8, Y2
+	VFMADD231PD 96(R10), Y8, Y3
+	VFMADD231PD 128(R10), Y8, Y4
+	CMPQ         64(DX), $0
+	JEQ          gather20avx2_next
+	VADDSD       X7, X5, X5        // Σ a_i
+	MOVQ         72(DX), R14       // d
+	VMULSD       (R14)(R15*8), X7, X10
+	VMULSD       X7, X10, X10
+	VADDSD       X10, X6, X6       // Σ (d_i a_i)·a_i
 
-gsums:
-	LEAQ        (R10)(R8*8), R10   // the sums after the exposures
-	MOVQ        48(DX), R14        // ct
-	VMOVHPD     (R14)(AX*8), X0, X2
-	MOVQ        56(DX), R14        // fp
-	VMOVSD      (R14)(AX*8), X3
-	MOVQ        64(DX), R14        // sp
-	VMOVHPD     (R14)(AX*8), X3, X3
-	VINSERTF128 $1, X3, Y2, Y2     // (a, ct, fp, sp)
-	VADDPD      (R10), Y2, Y2
-	VMOVUPD     Y2, (R10)
-	MOVQ        72(DX), R14        // d
-	VMULSD      (R14)(AX*8), X0, X4
-	VMULSD      X0, X4, X4
-	VADDSD      32(R10), X4, X4
-	VMOVSD      X4, 32(R10)
-	ADDQ        R9, SI
-	INCQ        AX
-	JMP         grow
+gather20avx2_next:
+	INCQ AX
+	JMP  gather20avx2_member
 
-gdone:
+gather20avx2_store:
+	MOVQ  56(DX), R10              // stride
+	IMULQ CX, R10
+	MOVQ  48(DX), R14              // accX
+	ADDQ  R10, R14
+	VMOVUPD Y0, (R14)
+	VMOVUPD Y1, 32(R14)
+	VMOVUPD Y2, 64(R14)
+	VMOVUPD Y3, 96(R14)
+	VMOVUPD Y4, 128(R14)
+	CMPQ    64(DX), $0
+	JEQ     gather20avx2_nextg
+	MOVQ    80(DX), R14            // accS
+	ADDQ    R10, R14
+	VMOVSD  X5, (R14)
+	VMOVSD  X6, 8(R14)
+
+gather20avx2_nextg:
+	INCQ CX
+	JMP  gather20avx2_group
+
+gather20avx2_done:
+	VZEROUPPER
+	RET
+
+// func gather4AVX2(gp *gatherPtrs)
+// For each group g and c < 4: x_gc = Σ_{i∈g} a_i b_ic, one chain of
+// fused multiply-adds from 0 over the members in increasing order, the
+// sums in registers, written to accX + g·stride. When gp.sums is not 0,
+// also (Σ a_i, Σ ct_i, Σ fp_i, Σ sp_i) and Σ (d_i a_i)·a_i over the members
+// in the same order, one rounded addition each, to accS + g·stride.
+TEXT ·gather4AVX2(SB), NOSPLIT, $0-8
+	MOVQ gp+0(FP), DX
+	MOVQ 0(DX), SI                 // b, at the first column
+	MOVQ 8(DX), R9                 // ldb
+	SHLQ $3, R9
+	MOVQ 16(DX), R11               // order
+	MOVQ 24(DX), R12               // start
+	MOVQ 32(DX), R8                // ng
+	MOVQ 40(DX), R13               // act
+	XORQ CX, CX
+
+gather4avx2_group:
+	CMPQ CX, R8
+	JGE  gather4avx2_done
+	MOVQ (R12)(CX*8), AX
+	MOVQ 8(R12)(CX*8), BX
+	VXORPD Y0, Y0, Y0
+	VXORPD X5, X5, X5
+	VXORPD X6, X6, X6
+
+gather4avx2_member:
+	CMPQ AX, BX
+	JGE  gather4avx2_store
+	MOVQ         64(R11)(AX*8), R10 // the member eight ahead (order is padded)
+	IMULQ        R9, R10
+	PREFETCHT0   (SI)(R10*1)
+	PREFETCHT0   64(SI)(R10*1)
+	PREFETCHT0   128(SI)(R10*1)
+	MOVQ         (R11)(AX*8), R15  // i
+	VMOVSD       (R13)(R15*8), X7  // a_i
+	VBROADCASTSD X7, Y8
+	MOVQ         R15, R10
+	IMULQ        R9, R10
+	ADDQ         SI, R10           // row i
+	VFMADD231PD (R10), Y8, Y0
+	CMPQ         64(DX), $0
+	JEQ          gather4avx2_next
+	VADDSD       X7, X5, X5        // Σ a_i
+	MOVQ         72(DX), R14       // d
+	VMULSD       (R14)(R15*8), X7, X10
+	VMULSD       X7, X10, X10
+	VADDSD       X10, X6, X6       // Σ (d_i a_i)·a_i
+
+gather4avx2_next:
+	INCQ AX
+	JMP  gather4avx2_member
+
+gather4avx2_store:
+	MOVQ  56(DX), R10              // stride
+	IMULQ CX, R10
+	MOVQ  48(DX), R14              // accX
+	ADDQ  R10, R14
+	VMOVUPD Y0, (R14)
+	CMPQ    64(DX), $0
+	JEQ     gather4avx2_nextg
+	MOVQ    80(DX), R14            // accS
+	ADDQ    R10, R14
+	VMOVSD  X5, (R14)
+	VMOVSD  X6, 8(R14)
+
+gather4avx2_nextg:
+	INCQ CX
+	JMP  gather4avx2_group
+
+gather4avx2_done:
 	VZEROUPPER
 	RET

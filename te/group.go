@@ -29,8 +29,8 @@ type Group struct {
 	ActiveWeight float64 // Σ_{i∈g} a_i
 	Contribution float64
 	Percent      float64 // 100 · Contribution / TE
-	Factor       float64 // Σ_{i∈g} FactorPart_i (0 when not Factored)
-	Specific     float64 // Σ_{i∈g} SpecificPart_i (0 when not Factored)
+	Factor       float64 // Σ_{i∈g} FactorPart_i = x_gᵀFx / TE (0 when not Factored)
+	Specific     float64 // Σ_{i∈g} SpecificPart_i = a_gᵀDa_g / TE (0 when not Factored)
 	Volatility   float64
 	Correlation  float64
 }
@@ -42,6 +42,8 @@ type Grouping struct {
 	names   []string // distinct labels, increasing
 	of      []int    // group of each asset, an index into names
 	members [][]int  // assets of each group, increasing
+	order   []int    // the members, group after group
+	start   []int    // start[g] is where group g's members begin in order
 }
 
 // NewGrouping prepares a labelling of len(labels) assets. The labels are
@@ -65,6 +67,15 @@ func NewGrouping(labels []string) *Grouping {
 		gr.of[i] = g
 		gr.members[g] = append(gr.members[g], i)
 	}
+	gr.order, gr.start = make([]int, 0, len(labels)+8), make([]int, len(names)+1)
+	for g, m := range gr.members {
+		gr.start[g] = len(gr.order)
+		gr.order = append(gr.order, m...)
+	}
+	gr.start[len(names)] = len(gr.order)
+	// Eight more entries for the kernels to read ahead (group.go's
+	// prefetches), past the end of order[:N].
+	gr.order = append(gr.order, make([]int, 8)...)[:len(labels)]
 	return gr
 }
 
@@ -130,23 +141,31 @@ func (d *Decomposition) groupSums(gs []Group, gr *Grouping) []float64 {
 	act, ct := d.Active[:n], d.Contribution[:n]
 	if a.factored {
 		k, kp := a.k, a.kp
-		// Row g of xs is the group's exposures x_g = B_gᵀa_g, all groups
-		// from one pass over B in asset order; the sums over members run
-		// in the same pass order, increasing asset index in each group.
-		w := kp + 8
+		// Row g of acc is the group's exposures x_g = B_gᵀa_g, then
+		// Σ_{i∈g} a_i and a_gᵀDa_g, from one pass over B. With them
+		// a_gᵀΣa = x_gᵀ(Fx) + a_gᵀDa_g (Fx from the decomposition) and
+		// a_gᵀΣa_g = x_gᵀFx_g + a_gᵀDa_g.
+		w := kp + 4
 		d.gsc = grow(d.gsc, ng*w+kp+ng)
-		acc, fx, v := d.gsc[:ng*w], d.gsc[ng*w:ng*w+kp], d.gsc[ng*w+kp:]
+		acc, fxg, v := d.gsc[:ng*w], d.gsc[ng*w:ng*w+kp], d.gsc[ng*w+kp:]
 		clear(acc)
-		groupScatter(&groupRows{b: a.b.Data, ldb: kp, kp: kp, act: act, of: gr.of, acc: acc,
-			ct: ct, fp: d.FactorPart[:n], sp: d.SpecificPart[:n], d: a.d[:n]})
+		groupScatter(&groupRows{b: a.b.Data, ldb: kp, kp: kp, act: act, of: gr.of, order: gr.order,
+			start: gr.start, acc: acc, d: a.d[:n]})
+		inv := 0.0
+		if d.TE > 0 {
+			inv = 1 / d.TE
+		}
+		fx := d.fx[:k]
 		for g := range v {
 			r := acc[g*w : g*w+w]
-			s := r[kp : kp+5]
+			x, aw, spec := r[:k], r[kp], r[kp+1]
 			p := &gs[g]
-			p.ActiveWeight, p.Contribution, p.Factor, p.Specific = s[0], s[1], s[2], s[3]
-			x := r[:k]
-			gemv(blas.NoTrans, a.f, x, fx[:k])
-			v[g] = s[4] + max(0, dot(x, fx[:k]))
+			p.ActiveWeight = aw
+			p.Factor = dot(x, fx) * inv
+			p.Specific = spec * inv
+			p.Contribution = p.Factor + p.Specific
+			gemv(blas.NoTrans, a.f, x, fxg[:k])
+			v[g] = spec + max(0, dot(x, fxg[:k]))
 		}
 		return v
 	}
