@@ -288,6 +288,9 @@ gather20avx2_member:
 	CMPQ AX, BX
 	JGE  gather20avx2_store
 	MOVQ         64(R11)(AX*8), R10 // the member eight ahead (order is padded)
+	PREFETCHT0   (R13)(R10*8)
+	MOVQ         72(DX), R14
+	PREFETCHT0   (R14)(R10*8)
 	IMULQ        R9, R10
 	PREFETCHT0   (SI)(R10*1)
 	PREFETCHT0   64(SI)(R10*1)
@@ -370,6 +373,9 @@ gather4avx2_member:
 	CMPQ AX, BX
 	JGE  gather4avx2_store
 	MOVQ         64(R11)(AX*8), R10 // the member eight ahead (order is padded)
+	PREFETCHT0   (R13)(R10*8)
+	MOVQ         72(DX), R14
+	PREFETCHT0   (R14)(R10*8)
 	IMULQ        R9, R10
 	PREFETCHT0   (SI)(R10*1)
 	PREFETCHT0   64(SI)(R10*1)
