@@ -212,36 +212,20 @@ func (a *Analyzer) DecomposeTo(dst *Decomposition, portfolio, benchmark []float6
 // factor form has its own pass, factorFigures. (Shared among two cores they were
 // slower: waking a goroutine costs more than the AVX2 loop.)
 func (d *Decomposition) perAsset(te2, inv float64) {
-	d.perAssetRange(d.an, 0, d.an.n, te2, inv)
-}
-
-func (d *Decomposition) perAssetRange(a *Analyzer, lo, hi int, te2, inv float64) {
-	act := d.Active[lo:hi]
+	n := d.an.n
+	act := d.Active[:n]
 	// Slices cut to the same length as act let the compiler drop bounds
 	// checks and keep the headers in registers (stores through d could
 	// otherwise alias them).
-	n := len(act)
-	sa, mg, ct, pc := d.sa[lo:hi][:n], d.Marginal[lo:hi][:n], d.Contribution[lo:hi][:n], d.Percent[lo:hi][:n]
-	cr, hg, ht := d.Correlation[lo:hi][:n], d.Hedge[lo:hi][:n], d.HedgedTE[lo:hi][:n]
-	isd, idg := a.isd[lo:hi][:n], a.idg[lo:hi][:n]
-	var spd, fp, sp []float64
-	if a.factored {
-		spd, fp, sp = a.d[lo:hi][:n], d.FactorPart[lo:hi][:n], d.SpecificPart[lo:hi][:n]
-	}
+	sa, mg, ct, pc := d.sa[:n], d.Marginal[:n], d.Contribution[:n], d.Percent[:n]
+	cr, hg, ht := d.Correlation[:n], d.Hedge[:n], d.HedgedTE[:n]
+	isd, idg := d.an.isd[:n], d.an.idg[:n]
 	// The first assets four at a time with AVX2 (the same roundings), the
 	// rest here.
-	done := vectorFigures(act, sa, spd, fp, sp, isd, idg, mg, ct, pc, cr, hg, ht, te2, inv)
+	done := vectorFigures(act, sa, isd, idg, mg, ct, pc, cr, hg, ht, te2, inv)
 	for i := done; i < n; i++ {
 		ai := act[i]
 		sai := sa[i]
-		if spd != nil {
-			// Σa = BFx + Da: split into its factor and specific parts.
-			spec := spd[i] * ai
-			fp[i] = ai * sai * inv
-			sp[i] = ai * spec * inv
-			sai += spec
-			sa[i] = sai
-		}
 		mg[i] = sai * inv
 		c := ai * sai * inv
 		ct[i] = c
@@ -250,7 +234,7 @@ func (d *Decomposition) perAssetRange(a *Analyzer, lo, hi int, te2, inv float64)
 		cr[i] = sai * inv * isd[i]
 		h := -sai * idg[i]
 		hg[i] = h
-		ht[i] = math.Sqrt(max(0, te2+sai*h))
+		ht[i] = math.Sqrt(max(0, te2+float64(sai*h)))
 	}
 }
 
