@@ -95,8 +95,11 @@ func (d *Decomposition) Groups(labels []string) []Group {
 // GroupsTo sets dst to the decomposition by group, one Group per distinct
 // label in increasing order of label, and returns it. A nil or empty dst is
 // allocated; a dst whose length is not the number of groups panics with
-// mat.ErrShape. The group contributions are sums of the asset
-// contributions, so they sum to TE.
+// mat.ErrShape. A group's contribution is the sum of its assets'
+// contributions, so the groups' sum to TE: dense, it is summed so; in
+// factor form it is a_gᵀΣa/TE = (x_gᵀFx + a_gᵀDa_g)/TE with the group's
+// exposures x_g = B_gᵀa_g, equal to that sum up to rounding, and Factor and
+// Specific are its two terms.
 //
 // GroupsTo panics with mat.ErrShape if the grouping does not label N assets.
 // Cost O(N·K + G·K²) in factor form for G groups (one pass over B, in asset
