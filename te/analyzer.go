@@ -2,6 +2,7 @@ package te
 
 import (
 	"math"
+	"slices"
 
 	"gonum.org/v1/gonum/blas"
 	"gonum.org/v1/gonum/blas/blas64"
@@ -30,9 +31,11 @@ type Factored interface {
 // safe for concurrent use.
 type Analyzer struct {
 	n, k     int
+	kp       int // K rounded up to a multiple of 4: the stride of B
 	factored bool
 
-	// Factor form: B (N×K row-major), F (K×K, both triangles), D.
+	// Factor form: B (N×K row-major, kp values a row, zero past K), F
+	// (K×K, both triangles), D.
 	b blas64.General
 	f blas64.General
 	d []float64
@@ -83,7 +86,8 @@ func NewAnalyzer(cov Covariance) (*Analyzer, error) {
 		return nil, err
 	}
 	// Reciprocals once here turn the per-portfolio divisions into products.
-	a.sd, a.isd, a.idg = make([]float64, n), make([]float64, n), make([]float64, n)
+	vs := vectors(n, 3)
+	a.sd, a.isd, a.idg = vs[0], vs[1], vs[2]
 	for i, v := range a.diag {
 		a.sd[i] = math.Sqrt(v)
 		if v > 0 {
@@ -112,13 +116,16 @@ func newFactored(fm Factored, n int) (*Analyzer, error) {
 	if len(d) != n {
 		panic(mat.ErrShape)
 	}
-	a := &Analyzer{n: n, k: k, factored: true,
-		b: blas64.General{Rows: n, Cols: k, Stride: k, Data: make([]float64, n*k)},
+	kp := (k + 3) &^ 3
+	a := &Analyzer{n: n, k: k, kp: kp, factored: true,
+		b: blas64.General{Rows: n, Cols: k, Stride: kp, Data: make([]float64, n*kp)},
 		f: blas64.General{Rows: k, Cols: k, Stride: k, Data: make([]float64, k*k)},
-		d: append([]float64(nil), d...),
 	}
+	vs := vectors(n, 2)
+	a.d, a.diag = vs[0], vs[1]
+	copy(a.d, d)
 	for i := 0; i < n; i++ {
-		row := a.b.Data[i*k : (i+1)*k]
+		row := a.b.Data[i*kp : i*kp+k]
 		for j := range row {
 			v := bm.At(i, j)
 			if !finite(v) {
@@ -145,10 +152,9 @@ func newFactored(fm Factored, n int) (*Analyzer, error) {
 		}
 	}
 	// Σ_ii = b_iᵀ F b_i + d_i.
-	a.diag = make([]float64, n)
 	fb := make([]float64, k)
 	for i := range a.diag {
-		row := a.b.Data[i*k : (i+1)*k]
+		row := a.b.Data[i*kp : i*kp+k]
 		gemv(blas.NoTrans, a.f, row, fb)
 		a.diag[i] = max(0, dot(row, fb)) + a.d[i]
 	}
@@ -232,33 +238,23 @@ func (a *Analyzer) factorMul(dst, x, bx, fbx []float64) {
 // and panics are those of DecomposeTo. Cost O(N·K) in factor form, O(N²)
 // dense.
 func (a *Analyzer) TrackingError(portfolio, benchmark []float64) (float64, error) {
-	if err := a.checkWeights(portfolio, benchmark); err != nil {
-		return 0, err
-	}
 	act := make([]float64, a.n)
-	for i := range act {
-		act[i] = portfolio[i] - benchmark[i]
-	}
 	var te2 float64
 	if a.factored {
-		x := make([]float64, 2*a.k)
-		dense.MulVecT(x[:a.k], a.b, act)
-		gemv(blas.NoTrans, a.f, x[:a.k], x[a.k:])
-		// The same sums in the same order as DecomposeTo, so both give
-		// bit-identical TE.
-		fv := dot(x[:a.k], x[a.k:])
-		var sv float64
-		for i, v := range act {
-			sv += a.d[i] * v * v
-		}
-		if fv < 0 {
-			var err error
-			if fv, err = clampVariance(fv, x[:a.k], diagOf(a.f)); err != nil {
-				return 0, err
-			}
+		// The passes of DecomposeTo, so that both give bit-identical TE.
+		x := make([]float64, 3*a.kp)
+		fv, sv, _, _, err := a.factorVariances(act, portfolio, benchmark, x[:a.kp], x[a.kp:2*a.kp], x[2*a.kp:])
+		if err != nil {
+			return 0, err
 		}
 		te2 = fv + sv
 	} else {
+		if err := a.checkWeights(portfolio, benchmark); err != nil {
+			return 0, err
+		}
+		for i := range act {
+			act[i] = portfolio[i] - benchmark[i]
+		}
 		sa := make([]float64, a.n)
 		symv(a.sym, act, sa, nil, nil)
 		var err error
@@ -268,6 +264,60 @@ func (a *Analyzer) TrackingError(portfolio, benchmark []float64) (float64, error
 	}
 	return math.Sqrt(te2), nil
 }
+
+// factorVariances is the first pass of the factor form: act = p − b,
+// x = Bᵀa and xb = Bᵀb in one pass over B (kp values each, zero past K),
+// fx = F·x, and it returns
+//
+//	fv = xᵀFx = aᵀBFBᵀa,  sv = aᵀDa,  asb = aᵀΣb,  bsb = bᵀΣb
+//
+// (fv clamped to 0 when rounding made it slightly negative). The weights
+// are checked here too: the sums are finite unless a weight is not (or
+// they overflow), and then checkWeights names the culprit. fx is written
+// in full, zero past K; x's and xb's padding is B's, zero.
+func (a *Analyzer) factorVariances(act, p, b, x, xb, fx []float64) (fv, sv, asb, bsb float64, err error) {
+	if len(p) != a.n || len(b) != a.n {
+		panic(mat.ErrShape)
+	}
+	sv, dab, dbb := activeSums(act, p, b, a.d)
+	if !finite(sv) || !finite(dab) || !finite(dbb) || !slices.ContainsFunc(p, nonzero) {
+		if err := a.checkWeights(p, b); err != nil {
+			return 0, 0, 0, 0, err
+		}
+	}
+	k, kp := a.k, a.kp
+	exposures(a.b.Data, kp, a.n, kp, act, b, x, xb)
+	clear(fx[k:kp])
+	gemv(blas.NoTrans, a.f, x[:k], fx[:k])
+	fv = dot(x[:k], fx[:k])
+	asb, bsb = a.crossTerms(x[:k], xb[:k])
+	asb += dab
+	bsb += dbb
+	if fv < 0 {
+		if fv, err = clampVariance(fv, x[:k], diagOf(a.f)); err != nil {
+			return 0, 0, 0, 0, err
+		}
+	}
+	return fv, sv, asb, bsb, nil
+}
+
+// crossTerms returns xᵀF·xb and xbᵀF·xb, summed over the rows of F in
+// order: (F·xb)_r = Σ_c F_rc xb_c first, each in order of c.
+func (a *Analyzer) crossTerms(x, xb []float64) (asb, bsb float64) {
+	k := a.k
+	for r := 0; r < k; r++ {
+		row := a.f.Data[r*k : r*k+k][:len(xb)]
+		var s float64
+		for c, v := range row {
+			s += v * xb[c]
+		}
+		asb += x[r] * s
+		bsb += xb[r] * s
+	}
+	return asb, bsb
+}
+
+func nonzero(v float64) bool { return v != 0 }
 
 // checkWeights panics on a length mismatch and reports non-finite weights and
 // an empty portfolio.

@@ -3,10 +3,7 @@ package te
 import (
 	"math"
 
-	"gonum.org/v1/gonum/blas"
 	"gonum.org/v1/gonum/blas/blas64"
-
-	"github.com/riskmodel/riskmodel/internal/dense"
 )
 
 // Decomposition is the ex-ante tracking error of one portfolio against one
@@ -116,8 +113,10 @@ func (a *Analyzer) Decompose(portfolio, benchmark []float64) (*Decomposition, er
 // Menchero, J. & Davis, B. (2011). Risk contribution is exposure times
 // volatility times correlation. Journal of Portfolio Management 37(2), 97–106.
 func (a *Analyzer) DecomposeTo(dst *Decomposition, portfolio, benchmark []float64) (*Decomposition, error) {
-	if err := a.checkWeights(portfolio, benchmark); err != nil {
-		return nil, err
+	if !a.factored {
+		if err := a.checkWeights(portfolio, benchmark); err != nil {
+			return nil, err
+		}
 	}
 	if dst == nil {
 		dst = &Decomposition{}
@@ -126,57 +125,31 @@ func (a *Analyzer) DecomposeTo(dst *Decomposition, portfolio, benchmark []float6
 	d := dst
 	d.an = a
 	d.Factored = a.factored
-	d.Active = grow(d.Active, n)
-	d.sa = grow(d.sa, n)
-	d.Marginal = grow(d.Marginal, n)
-	d.Contribution = grow(d.Contribution, n)
-	d.Percent = grow(d.Percent, n)
-	d.Volatility = grow(d.Volatility, n)
-	d.Correlation = grow(d.Correlation, n)
-	d.Hedge = grow(d.Hedge, n)
-	d.HedgedTE = grow(d.HedgedTE, n)
+	d.sizeVectors(n, a.factored)
 	act := d.Active
-	for i := range act {
-		act[i] = portfolio[i] - benchmark[i]
-	}
 
 	// te2 = aᵀΣa, asb = aᵀΣb, bsb = bᵀΣb.
 	var te2, asb, bsb float64
 	if a.factored {
-		d.FactorPart = grow(d.FactorPart, n)
-		d.SpecificPart = grow(d.SpecificPart, n)
-		d.fx = grow(d.fx, k)
-		d.buf = grow(d.buf, 3*k)
+		kp := a.kp
+		d.fx = grow(d.fx, kp)
+		d.buf = grow(d.buf, 2*kp)
 		if cap(d.Factors) < k {
 			d.Factors = make([]Source, k)
 		}
 		d.Factors = d.Factors[:k]
-		x, xb, fxb := d.buf[:k], d.buf[k:2*k], d.buf[2*k:]
-		// sa holds B·F·x first; D·a is added below.
-		dense.MulVecT(x, a.b, act)
-		gemv(blas.NoTrans, a.f, x, d.fx)
-		dense.MulVecDiag(d.sa, a.b, d.fx, nil, nil)
-		dense.MulVecT(xb, a.b, benchmark)
-		gemv(blas.NoTrans, a.f, xb, fxb)
-		fv := dot(x, d.fx)
-		asb = dot(x, fxb)
-		bsb = dot(xb, fxb)
-		var sv float64
-		for i, ai := range act {
-			di := a.d[i]
-			sv += di * ai * ai
-			asb += di * ai * benchmark[i]
-			bsb += di * benchmark[i] * benchmark[i]
-		}
-		if fv < 0 {
-			var err error
-			if fv, err = clampVariance(fv, x, diagOf(a.f)); err != nil {
-				return nil, err
-			}
+		// One pass over B for x = Bᵀa and Bᵀb; the second, below, gives
+		// Σa = B·(Fx) + D·a and every per-asset figure.
+		fv, sv, ab, bb, err := a.factorVariances(act, portfolio, benchmark, d.buf[:kp], d.buf[kp:], d.fx)
+		if err != nil {
+			return nil, err
 		}
 		d.FactorVariance, d.SpecificVariance = fv, sv
-		te2 = fv + sv
+		te2, asb, bsb = fv+sv, ab, bb
 	} else {
+		for i := range act {
+			act[i] = portfolio[i] - benchmark[i]
+		}
 		d.FactorPart, d.SpecificPart, d.Factors, d.fx = nil, nil, nil, nil
 		d.FactorVariance, d.SpecificVariance = 0, 0
 		d.buf = grow(d.buf, n)
@@ -205,7 +178,15 @@ func (a *Analyzer) DecomposeTo(dst *Decomposition, portfolio, benchmark []float6
 	if te > 0 {
 		inv = 1 / te
 	}
-	d.perAsset(te2, inv)
+	if a.factored {
+		f := factorRows{b: a.b.Data, ldb: a.kp, kp: a.kp, fx: d.fx,
+			act: act, d: a.d, isd: a.isd, idg: a.idg,
+			sa: d.sa, fp: d.FactorPart, sp: d.SpecificPart, mg: d.Marginal, ct: d.Contribution,
+			pc: d.Percent, cr: d.Correlation, hg: d.Hedge, ht: d.HedgedTE}
+		factorFigures(&f, te2, inv)
+	} else {
+		d.perAsset(te2, inv)
+	}
 	copy(d.Volatility, a.sd)
 	if a.factored {
 		x := d.buf[:k]
@@ -227,40 +208,24 @@ func (a *Analyzer) DecomposeTo(dst *Decomposition, portfolio, benchmark []float6
 	return d, nil
 }
 
-// perAsset fills the per-asset figures from Σa (d.sa, the factor part only
-// in factor form, completed here by D·a). (Shared among two cores they were
+// perAsset fills the per-asset figures of a dense Σ from Σa (d.sa); the
+// factor form has its own pass, factorFigures. (Shared among two cores they were
 // slower: waking a goroutine costs more than the AVX2 loop.)
 func (d *Decomposition) perAsset(te2, inv float64) {
-	d.perAssetRange(d.an, 0, d.an.n, te2, inv)
-}
-
-func (d *Decomposition) perAssetRange(a *Analyzer, lo, hi int, te2, inv float64) {
-	act := d.Active[lo:hi]
+	n := d.an.n
+	act := d.Active[:n]
 	// Slices cut to the same length as act let the compiler drop bounds
 	// checks and keep the headers in registers (stores through d could
 	// otherwise alias them).
-	n := len(act)
-	sa, mg, ct, pc := d.sa[lo:hi][:n], d.Marginal[lo:hi][:n], d.Contribution[lo:hi][:n], d.Percent[lo:hi][:n]
-	cr, hg, ht := d.Correlation[lo:hi][:n], d.Hedge[lo:hi][:n], d.HedgedTE[lo:hi][:n]
-	isd, idg := a.isd[lo:hi][:n], a.idg[lo:hi][:n]
-	var spd, fp, sp []float64
-	if a.factored {
-		spd, fp, sp = a.d[lo:hi][:n], d.FactorPart[lo:hi][:n], d.SpecificPart[lo:hi][:n]
-	}
+	sa, mg, ct, pc := d.sa[:n], d.Marginal[:n], d.Contribution[:n], d.Percent[:n]
+	cr, hg, ht := d.Correlation[:n], d.Hedge[:n], d.HedgedTE[:n]
+	isd, idg := d.an.isd[:n], d.an.idg[:n]
 	// The first assets four at a time with AVX2 (the same roundings), the
 	// rest here.
-	done := vectorFigures(act, sa, spd, fp, sp, isd, idg, mg, ct, pc, cr, hg, ht, te2, inv)
+	done := vectorFigures(act, sa, isd, idg, mg, ct, pc, cr, hg, ht, te2, inv)
 	for i := done; i < n; i++ {
 		ai := act[i]
 		sai := sa[i]
-		if spd != nil {
-			// Σa = BFx + Da: split into its factor and specific parts.
-			spec := spd[i] * ai
-			fp[i] = ai * sai * inv
-			sp[i] = ai * spec * inv
-			sai += spec
-			sa[i] = sai
-		}
 		mg[i] = sai * inv
 		c := ai * sai * inv
 		ct[i] = c
@@ -269,7 +234,7 @@ func (d *Decomposition) perAssetRange(a *Analyzer, lo, hi int, te2, inv float64)
 		cr[i] = sai * inv * isd[i]
 		h := -sai * idg[i]
 		hg[i] = h
-		ht[i] = math.Sqrt(max(0, te2+sai*h))
+		ht[i] = math.Sqrt(max(0, te2+float64(sai*h)))
 	}
 }
 
@@ -286,6 +251,48 @@ func (d *Decomposition) Annualized(periodsPerYear float64) Annual {
 		PortfolioRisk: Annualize(d.PortfolioRisk, periodsPerYear),
 		BenchmarkRisk: Annualize(d.BenchmarkRisk, periodsPerYear),
 	}
+}
+
+// sizeVectors gives every per-asset slice of d length n (FactorPart and
+// SpecificPart only for a factor form), keeping them when they all have the
+// capacity, else allocating them together (vectors).
+func (d *Decomposition) sizeVectors(n int, factored bool) {
+	all := [...]*[]float64{&d.Active, &d.sa, &d.Marginal, &d.Contribution, &d.Percent, &d.Volatility,
+		&d.Correlation, &d.Hedge, &d.HedgedTE, &d.FactorPart, &d.SpecificPart}
+	vs := all[:len(all)-2]
+	if factored {
+		vs = all[:]
+	}
+	for _, v := range vs {
+		if cap(*v) < n {
+			for j, s := range vectors(n, len(vs)) {
+				*vs[j] = s
+			}
+			break
+		}
+	}
+	for _, v := range vs {
+		*v = (*v)[:n]
+	}
+}
+
+// vectors returns count slices of length and capacity n cut from one
+// allocation, each starting an odd number of 64-byte lines after the one
+// before. Slices allocated one by one at these sizes sit at the same
+// offset modulo 4096 bytes, so that a loop over a dozen of them at once
+// maps them all to the same sets of the L1 cache (8 ways) and misses
+// nearly every time; staggered, they spread over the sets.
+func vectors(n, count int) [][]float64 {
+	stride := (n + 7) &^ 7 // whole lines of 8 values
+	if stride/8%2 == 0 {
+		stride += 8
+	}
+	buf := make([]float64, stride*count)
+	vs := make([][]float64, count)
+	for j := range vs {
+		vs[j] = buf[j*stride : j*stride+n : j*stride+n]
+	}
+	return vs
 }
 
 func grow(s []float64, n int) []float64 {

@@ -11,24 +11,17 @@ type figurePtrs struct {
 }
 
 //go:noescape
-func splitAVX2(n4 int, act, sa, spd, fp, sp *float64, inv float64)
-
-//go:noescape
 func figuresAVX2(n4 int, p *figurePtrs, te2, inv float64)
 
-// vectorFigures computes the first n&^3 assets' figures of perAssetRange
+// vectorFigures computes the first n&^3 assets' figures of perAsset
 // with AVX2 and returns how many it did (0 without AVX2). The slices all
 // have length n.
-func vectorFigures(act, sa, spd, fp, sp, isd, idg, mg, ct, pc, cr, hg, ht []float64, te2, inv float64) int {
+func vectorFigures(act, sa, isd, idg, mg, ct, pc, cr, hg, ht []float64, te2, inv float64) int {
 	n4 := len(act) &^ 3
 	if n4 == 0 || !dense.VectorKernels() {
 		return 0
 	}
 	_, _, _, _, _, _, _, _, _, _ = sa[n4-1], isd[n4-1], idg[n4-1], mg[n4-1], ct[n4-1], pc[n4-1], cr[n4-1], hg[n4-1], ht[n4-1], act[n4-1]
-	if spd != nil {
-		_, _, _ = spd[n4-1], fp[n4-1], sp[n4-1]
-		splitAVX2(n4, &act[0], &sa[0], &spd[0], &fp[0], &sp[0], inv)
-	}
 	p := figurePtrs{&act[0], &sa[0], &isd[0], &idg[0], &mg[0], &ct[0], &pc[0], &cr[0], &hg[0], &ht[0]}
 	figuresAVX2(n4, &p, te2, inv)
 	return n4

@@ -2,47 +2,12 @@
 
 #include "textflag.h"
 
-// func splitAVX2(n4 int, act, sa, spd, fp, sp *float64, inv float64)
-// For i < n4 (a multiple of 4), four assets a step, the factor/specific
-// split of perAssetRange: spec = d_i a_i, fp_i = (a_i sa_i)·inv,
-// sp_i = (a_i spec)·inv, sa_i ← sa_i + spec; each product rounded, no fused
-// multiply-add, so the figures equal the Go loop's bit for bit.
-TEXT ·splitAVX2(SB), NOSPLIT, $0-56
-	MOVQ n4+0(FP), CX
-	MOVQ act+8(FP), SI
-	MOVQ sa+16(FP), DI
-	MOVQ spd+24(FP), R8
-	MOVQ fp+32(FP), R9
-	MOVQ sp+40(FP), R10
-	VBROADCASTSD inv+48(FP), Y15
-	XORQ AX, AX
-
-split:
-	CMPQ AX, CX
-	JGE  split_done
-	VMOVUPD (SI)(AX*8), Y0
-	VMOVUPD (DI)(AX*8), Y1
-	VMULPD  (R8)(AX*8), Y0, Y2
-	VMULPD  Y1, Y0, Y3
-	VMULPD  Y15, Y3, Y3
-	VMOVUPD Y3, (R9)(AX*8)
-	VMULPD  Y2, Y0, Y4
-	VMULPD  Y15, Y4, Y4
-	VMOVUPD Y4, (R10)(AX*8)
-	VADDPD  Y2, Y1, Y1
-	VMOVUPD Y1, (DI)(AX*8)
-	ADDQ    $4, AX
-	JMP     split
-
-split_done:
-	VZEROUPPER
-	RET
-
 // func figuresAVX2(n4 int, p *figurePtrs, te2, inv float64)
-// For i < n4, four assets a step, the figures of perAssetRange from
+// For i < n4, four assets a step, the figures of perAsset from
 // s = sa_i and a = act_i: mg = s·inv, c = (a·s)·inv, ct = c,
 // pc = (100·c)·inv, cr = (s·inv)·isd_i, h = −s·idg_i, hg = h,
-// ht = √max(te2 + s·h, 0); each product rounded, as in the Go loop.
+// ht = √max(te2 + s·h, 0); each product rounded, as in perAsset's Go loop
+// (the dense form; the factor form has factorFiguresAVX2).
 TEXT ·figuresAVX2(SB), NOSPLIT, $0-32
 	MOVQ n4+0(FP), CX
 	MOVQ p+8(FP), R14

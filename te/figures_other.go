@@ -2,6 +2,6 @@
 
 package te
 
-func vectorFigures(act, sa, spd, fp, sp, isd, idg, mg, ct, pc, cr, hg, ht []float64, te2, inv float64) int {
+func vectorFigures(act, sa, isd, idg, mg, ct, pc, cr, hg, ht []float64, te2, inv float64) int {
 	return 0
 }

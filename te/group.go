@@ -3,10 +3,8 @@ package te
 import (
 	"math"
 	"slices"
-	"sync/atomic"
 
 	"gonum.org/v1/gonum/blas"
-	"gonum.org/v1/gonum/blas/blas64"
 	"gonum.org/v1/gonum/mat"
 
 	"github.com/riskmodel/riskmodel/internal/dense"
@@ -31,8 +29,8 @@ type Group struct {
 	ActiveWeight float64 // Σ_{i∈g} a_i
 	Contribution float64
 	Percent      float64 // 100 · Contribution / TE
-	Factor       float64 // Σ_{i∈g} FactorPart_i (0 when not Factored)
-	Specific     float64 // Σ_{i∈g} SpecificPart_i (0 when not Factored)
+	Factor       float64 // Σ_{i∈g} FactorPart_i = x_gᵀFx / TE (0 when not Factored)
+	Specific     float64 // Σ_{i∈g} SpecificPart_i = a_gᵀDa_g / TE (0 when not Factored)
 	Volatility   float64
 	Correlation  float64
 }
@@ -42,44 +40,10 @@ type Group struct {
 // labels each time. It is read-only and safe for concurrent use.
 type Grouping struct {
 	names   []string // distinct labels, increasing
-	of      []int    // group of each asset
+	of      []int    // group of each asset, an index into names
 	members [][]int  // assets of each group, increasing
-
-	// gathered caches the rows of one Analyzer's loadings B in member
-	// order, group after group, so that each group's exposures Bᵀa_g are
-	// one pass over contiguous rows. It is built on first use by
-	// GroupsTo and replaced when another Analyzer asks.
-	gathered atomic.Pointer[gatheredRows]
-}
-
-// gatheredRows is B (N×K) of the Analyzer an, its rows reordered as the
-// groups' members: row r of b is asset order[r] = the r-th member, groups
-// in order, start[g] the first row of group g.
-type gatheredRows struct {
-	an    *Analyzer
-	b     []float64
-	order []int
-	start []int
-}
-
-// rowsFor returns the loadings of a gathered by group, building them once
-// per Grouping and Analyzer. Cost O(N·K) the first time, O(1) after.
-func (g *Grouping) rowsFor(a *Analyzer) *gatheredRows {
-	if c := g.gathered.Load(); c != nil && c.an == a {
-		return c
-	}
-	k := a.k
-	c := &gatheredRows{an: a, b: make([]float64, len(g.of)*k), order: make([]int, 0, len(g.of)), start: make([]int, len(g.members)+1)}
-	for gi, m := range g.members {
-		c.start[gi] = len(c.order)
-		c.order = append(c.order, m...)
-	}
-	c.start[len(g.members)] = len(c.order)
-	for r, i := range c.order {
-		copy(c.b[r*k:(r+1)*k], a.b.Data[i*a.b.Stride:i*a.b.Stride+k])
-	}
-	g.gathered.Store(c)
-	return c
+	order   []int    // the members, group after group
+	start   []int    // start[g] is where group g's members begin in order
 }
 
 // NewGrouping prepares a labelling of len(labels) assets. The labels are
@@ -103,6 +67,15 @@ func NewGrouping(labels []string) *Grouping {
 		gr.of[i] = g
 		gr.members[g] = append(gr.members[g], i)
 	}
+	gr.order, gr.start = make([]int, 0, len(labels)+8), make([]int, len(names)+1)
+	for g, m := range gr.members {
+		gr.start[g] = len(gr.order)
+		gr.order = append(gr.order, m...)
+	}
+	gr.start[len(names)] = len(gr.order)
+	// Eight more entries for the kernels to read ahead (group.go's
+	// prefetches), past the end of order[:N].
+	gr.order = append(gr.order, make([]int, 8)...)[:len(labels)]
 	return gr
 }
 
@@ -122,13 +95,15 @@ func (d *Decomposition) Groups(labels []string) []Group {
 // GroupsTo sets dst to the decomposition by group, one Group per distinct
 // label in increasing order of label, and returns it. A nil or empty dst is
 // allocated; a dst whose length is not the number of groups panics with
-// mat.ErrShape. The group contributions are sums of the
-// asset contributions, so they sum to TE.
+// mat.ErrShape. A group's contribution is the sum of its assets'
+// contributions, so the groups' sum to TE: dense, it is summed so; in
+// factor form it is a_gᵀΣa/TE = (x_gᵀFx + a_gᵀDa_g)/TE with the group's
+// exposures x_g = B_gᵀa_g, equal to that sum up to rounding, and Factor and
+// Specific are its two terms.
 //
 // GroupsTo panics with mat.ErrShape if the grouping does not label N assets.
-// Cost O(N·K + G·K²) in factor form for G groups (the first call with a
-// Grouping and an Analyzer also copies B, N·K values, gathered by group), O(N + Σ_g n_g²) dense (n_g
-// members of group g).
+// Cost O(N·K + G·K²) in factor form for G groups (one pass over B, in asset
+// order), O(N + Σ_g n_g²) dense (n_g members of group g).
 //
 // References:
 //
@@ -166,36 +141,39 @@ func (d *Decomposition) GroupsTo(dst []Group, gr *Grouping) []Group {
 func (d *Decomposition) groupSums(gs []Group, gr *Grouping) []float64 {
 	a := d.an
 	n, ng := a.n, len(gr.names)
-	v := make([]float64, ng)
 	act, ct := d.Active[:n], d.Contribution[:n]
 	if a.factored {
-		k := a.k
-		rows := gr.rowsFor(a)
-		// The active weights in member order, then x_g and F·x_g.
-		d.gsc = grow(d.gsc, n+2*k)
-		ag, x, fx := d.gsc[:n], d.gsc[n:n+k], d.gsc[n+k:]
-		sd, fp, spp := a.d[:n], d.FactorPart[:n], d.SpecificPart[:n]
+		k, kp := a.k, a.kp
+		// Row g of acc is the group's exposures x_g = B_gᵀa_g, then
+		// Σ_{i∈g} a_i and a_gᵀDa_g, from one pass over B. With them
+		// a_gᵀΣa = x_gᵀ(Fx) + a_gᵀDa_g (Fx from the decomposition) and
+		// a_gᵀΣa_g = x_gᵀFx_g + a_gᵀDa_g.
+		w := kp + 4
+		d.gsc = grow(d.gsc, ng*w+kp+ng)
+		acc, fxg, v := d.gsc[:ng*w], d.gsc[ng*w:ng*w+kp], d.gsc[ng*w+kp:]
+		clear(acc)
+		groupScatter(&groupRows{b: a.b.Data, ldb: kp, kp: kp, act: act, of: gr.of, order: gr.order,
+			start: gr.start, acc: acc, d: a.d[:n]})
+		inv := 0.0
+		if d.TE > 0 {
+			inv = 1 / d.TE
+		}
+		fx := d.fx[:k]
 		for g := range v {
-			lo, hi := rows.start[g], rows.start[g+1]
-			var aw, c, f, sp, spec float64
-			for r, i := range rows.order[lo:hi] {
-				ai := act[i]
-				ag[lo+r] = ai
-				aw += ai
-				c += ct[i]
-				f += fp[i]
-				sp += spp[i]
-				spec += sd[i] * ai * ai
-			}
+			r := acc[g*w : g*w+w]
+			x, aw, spec := r[:k], r[kp], r[kp+1]
 			p := &gs[g]
-			p.ActiveWeight, p.Contribution, p.Factor, p.Specific = aw, c, f, sp
-			b := blas64.General{Rows: hi - lo, Cols: k, Stride: k, Data: rows.b[lo*k : hi*k]}
-			dense.MulVecT(x, b, ag[lo:hi])
-			gemv(blas.NoTrans, a.f, x, fx)
-			v[g] = spec + max(0, dot(x, fx))
+			p.ActiveWeight = aw
+			p.Factor = dot(x, fx) * inv
+			p.Specific = spec * inv
+			p.Contribution = p.Factor + p.Specific
+			gemv(blas.NoTrans, a.f, x, fxg[:k])
+			v[g] = spec + max(0, dot(x, fxg[:k]))
 		}
 		return v
 	}
+	d.gsc = grow(d.gsc, ng)
+	v := d.gsc
 	for g, m := range gr.members {
 		var aw, c float64
 		for _, i := range m {

@@ -15,10 +15,14 @@ import time
 
 LINE = re.compile(r"^Benchmark(\S+?)(-\d+)?\s+\d+\s+([\d.]+) ns/op(.*)$")
 
+# Rows whose Go side is not the library's code but another library's, shown
+# for scale: their ratio is printed in brackets and is not a target.
+BASELINES = {"gonum Syrk XᵀX 1000×3000"}
+
 # row, go benchmark name (without GOMAXPROCS suffix), reference row, work
 ROWS = [
     ("kernel XᵀX 1000×3000", "XtX/1000x3000/XtWX-alloc", "xtx", "N×N from T×N"),
-    ("gonum Syrk XᵀX 1000×3000", "XtX/1000x3000/gonum-Syrk", "xtx", "the baseline"),
+    ("gonum Syrk XᵀX 1000×3000", "XtX/1000x3000/gonum-Syrk", "xtx", "baseline: gonum's Syrk, not our code, not a target"),
     ("ewma covariance, demeaned", "Covariance/T=1000/N=3000/demean=true/inplace", "ewma", "weighted, dense N×N"),
     ("shrink Ledoit–Wolf dense", "LedoitWolf/N=3000,T=1000/inplace", "ledoitwolf", "N×N"),
     ("shrink OAS dense", "OAS/N=3000,T=1000/inplace", "oas", "N×N"),
@@ -66,7 +70,9 @@ def main():
         print(f"# measured FMA peak, all cores: {max(peaks):.1f} GFLOP/s")
     print("# ratio = reference time / our time (above 1: faster than the reference); Go: medians;")
     print("# reference: mean of its medians timed before and after the Go benchmarks")
+    print("# [ratio] in brackets: a baseline row (another library's code on the Go side), not a target")
     print(f"{'benchmark':30s} {'ours ms':>10s} {'MB/op':>8s} {'ref ms':>10s} {'ratio':>7s}  note")
+    below = []
     for name, bench, row, note in ROWS:
         if bench not in med:
             print(f"{name:30s} {'missing':>10s}")
@@ -75,8 +81,16 @@ def main():
         if gf:
             note += f", {gf:.1f} GFLOP/s"
         r = statistics.mean(refs[row]) if row in refs else None
-        rs = f"{r:10.3f} {r / ms:7.2f}" if r else f"{'none':>10s} {'':>7s}"
+        if r and name in BASELINES:
+            rs = f"{r:10.3f} {'[' + format(r / ms, '.2f') + ']':>7s}"
+        elif r:
+            rs = f"{r:10.3f} {r / ms:7.2f}"
+            if r / ms < 1:
+                below.append(f"{name} {r / ms:.2f}")
+        else:
+            rs = f"{'none':>10s} {'':>7s}"
         print(f"{name:30s} {ms:10.3f} {mem / 1e6:8.1f} {rs}  {note}")
+    print(f"# target rows below 1: {', '.join(below) if below else 'none'}")
     print("# references:")
     for row in sorted(what):
         print(f"#   {row}: {what[row]}")

@@ -24,11 +24,10 @@ func groupVarianceByDefinition(sigma *mat.SymDense, active []float64, labels []s
 	return v
 }
 
-// TestGroupingGatheredRows: one Grouping shared by two Analyzers in turn,
-// and by goroutines at once, gives each decomposition the group
-// volatilities √(a_gᵀΣa_g) of the definition; the rows it caches are
-// rebuilt when the Analyzer changes.
-func TestGroupingGatheredRows(t *testing.T) {
+// TestGroupingShared: one Grouping shared by two Analyzers in turn, and by
+// goroutines at once, gives each decomposition the group volatilities
+// √(a_gᵀΣa_g) of the definition (Grouping holds nothing of an Analyzer).
+func TestGroupingShared(t *testing.T) {
 	rng := rand.New(rand.NewPCG(21, 22))
 	const n = 60
 	m1, m2 := randomModel(rng, n, 5), randomModel(rng, n, 7)
