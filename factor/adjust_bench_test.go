@@ -23,6 +23,7 @@ func BenchmarkAdjust(b *testing.B) {
 		{name: "eigen", adj: Adjustments{Eigen: true}},
 		{name: "regime", adj: Adjustments{Regime: true}},
 		{name: "weighted", adj: Adjustments{Weighted: true}},
+		{name: "weighted+dispersion", adj: Adjustments{Weighted: true, Dispersion: true}},
 		{name: "all", adj: Adjustments{Dispersion: true, Eigen: true, Regime: true}},
 		{name: "holdout", crit: HoldoutLikelihood},
 	} {
