@@ -56,6 +56,7 @@ type config struct {
 	truth                    bool
 	workers                  int
 	sim                      string // a simulated market instead of files: -sim key=value,...
+	cpuProfile               string // write a CPU profile of the evaluation to this file
 }
 
 // badInput marks an error caused by the user's flags or files.
@@ -108,6 +109,7 @@ func parseFlags(args []string, stderr io.Writer) (config, error) {
 	fs.BoolVar(&cfg.truth, "truth", true, "with the demo's returns, add its true covariance as the oracle and the losses against it")
 	fs.IntVar(&cfg.workers, "workers", 0, "rebalance dates processed at once (default the number of cores)")
 	fs.StringVar(&cfg.sim, "sim", "", "evaluate on a simulated market with its truth instead of files: comma-separated seed=, assets=, sectors=, dates=, stress-start=, stress-length= of the demo generator (e.g. sectors=25,assets=800)")
+	fs.StringVar(&cfg.cpuProfile, "cpuprofile", "", "write a CPU profile of the evaluation to this file (for go tool pprof)")
 	if err := fs.Parse(args); err != nil {
 		if errors.Is(err, flag.ErrHelp) {
 			return cfg, err

@@ -5,6 +5,7 @@ import (
 	"io"
 	"math"
 	"os"
+	"runtime/pprof"
 	"strconv"
 	"strings"
 
@@ -90,6 +91,17 @@ func runEvaluation(cfg config, stdout, stderr io.Writer) error {
 				fmt.Fprintln(stderr)
 			}
 		}
+	}
+	if cfg.cpuProfile != "" {
+		f, err := os.Create(cfg.cpuProfile)
+		if err != nil {
+			return badInput{err}
+		}
+		defer f.Close()
+		if err := pprof.StartCPUProfile(f); err != nil {
+			return err
+		}
+		defer pprof.StopCPUProfile()
 	}
 	ev, err := evaluate.Run(panel, opts)
 	if err != nil {

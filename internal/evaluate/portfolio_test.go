@@ -89,7 +89,7 @@ func TestSimplexQPConverges(t *testing.T) {
 			}
 		}
 		op := newCovOp(s)
-		w, res := op.simplexQP(c, nil)
+		w, res := op.simplexQP(c)
 		require.True(t, res.Converged, "trial %d: %+v", trial, res)
 		want, fstar := exactSimplexQP(s, c)
 		require.NotNil(t, want)
@@ -114,7 +114,7 @@ func TestMinVariancePortfolios(t *testing.T) {
 	op := newCovOp(s)
 	want := []float64{8.0 / 15, 4.0 / 15, 2.0 / 15, 1.0 / 15}
 	require.InDeltaSlice(t, want, op.minVariance(), 1e-14)
-	w, res := op.simplexQP(nil, nil)
+	w, res := op.simplexQP(nil)
 	require.True(t, res.Converged)
 	require.InDeltaSlice(t, want, w, 1e-5)
 
@@ -124,10 +124,10 @@ func TestMinVariancePortfolios(t *testing.T) {
 	b := []float64{0.3, 0.25, 0.2, 0.15, 0.07, 0.03}
 	c := make([]float64, 6)
 	fop.mul(c, b)
-	w, res = fop.simplexQP(c, nil)
+	w, res = fop.simplexQP(c)
 	require.True(t, res.Converged)
 	require.InDeltaSlice(t, b, w, 1e-4)
-	w, res = fop.simplexQP(c, largestNames(b, 3))
+	w, res = fop.trackingQP(c, largestNames(b, 3))
 	require.True(t, res.Converged)
 	require.Equal(t, []int{0, 1, 2}, largestNames(b, 3))
 	for i := 3; i < 6; i++ {
@@ -156,8 +156,8 @@ func TestMinVarianceFactorMatchesDense(t *testing.T) {
 	require.NoError(t, err)
 	fop, dop := newCovOp(fm), newCovOp(fm.CovarianceTo(nil))
 	require.InDeltaSlice(t, dop.minVariance(), fop.minVariance(), 1e-10)
-	wf, _ := fop.simplexQP(nil, nil)
-	wd, _ := dop.simplexQP(nil, nil)
+	wf, _ := fop.simplexQP(nil)
+	wd, _ := dop.simplexQP(nil)
 	require.InDeltaSlice(t, wd, wf, 1e-6)
 	require.InDelta(t, dop.lmax, fop.lmax, 1e-6*dop.lmax)
 }

@@ -8,6 +8,7 @@ import (
 	"gonum.org/v1/gonum/mat"
 	"gonum.org/v1/gonum/stat/distuv"
 
+	"github.com/riskmodel/riskmodel/factor"
 	"github.com/riskmodel/riskmodel/internal/dense"
 )
 
@@ -188,4 +189,138 @@ func evalFull(s *mat.SymDense) *mat.Dense {
 // 5.2 (the definition of the PRIAL, section number from memory).
 func prial(lossSample, loss float64) float64 {
 	return 100 * (lossSample - loss) / lossSample
+}
+
+// condTolerance is the condition number above which the minimum-variance
+// loss of a dense forecast is NaN: its inverse has no correct digit left
+// (gonum's mat.ConditionTolerance).
+const condTolerance = 1e16
+
+// mvLossOf returns the minimum-variance loss of the forecast behind op
+// against truth (see mvLoss), NaN when the forecast is not positive
+// definite. A dense forecast reuses op's Cholesky factor: Σ̂⁻¹ by two
+// triangular solves (2N³ flops) and tr(Σ̂⁻¹ΣΣ̂⁻¹) = ⟨Σ̂⁻¹Σ̂⁻¹, Σ⟩ with the
+// symmetric product on all cores (N³). A factor forecast stays in factor
+// form (factorMVTraces), O(N²·K).
+func mvLossOf(op *covOp, truth *mat.SymDense, trueInvTrace float64) float64 {
+	n := truth.SymmetricDim()
+	var tr, num float64
+	switch {
+	case op.fm != nil:
+		tr, num = factorMVTraces(op.fm, truth)
+	case op.chol != nil && op.cond <= condTolerance:
+		id := mat.NewDense(n, n, nil)
+		for i := 0; i < n; i++ {
+			id.Set(i, i, 1)
+		}
+		inv := op.chol.SolveTo(id, id)
+		for i := 0; i < n; i++ {
+			tr += inv.At(i, i)
+		}
+		sq := dense.XtWX(nil, inv, nil) // Σ̂⁻¹ᵀΣ̂⁻¹ = Σ̂⁻²
+		num = symInner(sq, truth)
+	default:
+		return math.NaN()
+	}
+	nf := float64(n)
+	return (num/nf)/((tr/nf)*(tr/nf)) - 1/(trueInvTrace/nf)
+}
+
+// symInner returns ⟨a, b⟩ = Σᵢⱼ aᵢⱼbᵢⱼ of two symmetric matrices, from their
+// upper triangles.
+func symInner(a, b *mat.SymDense) float64 {
+	n := a.SymmetricDim()
+	ra, rb := a.RawSymmetric(), b.RawSymmetric()
+	var s float64
+	for i := 0; i < n; i++ {
+		x, y := ra.Data[i*ra.Stride:i*ra.Stride+n], rb.Data[i*rb.Stride:i*rb.Stride+n]
+		s += x[i] * y[i]
+		var off float64
+		for j := i + 1; j < n; j++ {
+			off += x[j] * y[j]
+		}
+		s += 2 * off
+	}
+	return s
+}
+
+// factorMVTraces returns tr(Σ̂⁻¹) and tr(Σ̂⁻¹ΣΣ̂⁻¹) for a factor forecast
+// Σ̂ = WWᵀ + D (W = B·L, F = L·Lᵀ) by the Woodbury identity
+//
+//	Σ̂⁻¹ = D⁻¹ − YYᵀ,   Y = D⁻¹W·R⁻¹,   RᵀR = I + WᵀD⁻¹W,
+//
+// so that tr(Σ̂⁻¹) = Σᵢ 1/dᵢ − ‖Y‖²_F and, with Q = ΣY,
+//
+//	tr(Σ̂⁻¹ΣΣ̂⁻¹) = Σᵢ Σᵢᵢ/dᵢ² − 2·tr(YᵀD⁻¹Q) + tr(YᵀQ·YᵀY).
+//
+// Cost O(N²·K) for Q on all cores, O(N·K²) for the rest; no N×N matrix.
+// Reference: Woodbury, M.A. (1950), "Inverting modified matrices",
+// Memorandum Report 42, Statistical Research Group, Princeton University.
+func factorMVTraces(fm *factor.Model, truth *mat.SymDense) (tr, num float64) {
+	n, k := fm.SymmetricDim(), fm.NumFactors()
+	g, s := fm.SqrtTo(nil, nil) // g = LᵀBᵀ (K×N) = Wᵀ, s = √d
+	for i := 0; i < n; i++ {
+		d := s[i] * s[i]
+		tr += 1 / d
+		num += truth.At(i, i) / (d * d)
+	}
+	if k == 0 {
+		return tr, num
+	}
+	// H = D⁻¹W (N×K) and the K×K inner matrix I + WᵀD⁻¹W.
+	h := mat.NewDense(n, k, nil)
+	for i := 0; i < n; i++ {
+		d := s[i] * s[i]
+		for j := 0; j < k; j++ {
+			h.Set(i, j, g.At(j, i)/d)
+		}
+	}
+	inner := mat.NewSymDense(k, nil)
+	for a := 0; a < k; a++ {
+		for b := a; b < k; b++ {
+			var v float64
+			for i := 0; i < n; i++ {
+				v += g.At(a, i) * h.At(i, b)
+			}
+			if a == b {
+				v++
+			}
+			inner.SetSym(a, b, v)
+		}
+	}
+	var ch mat.Cholesky
+	if !ch.Factorize(inner) {
+		return math.NaN(), math.NaN()
+	}
+	var r mat.TriDense
+	ch.UTo(&r)
+	// Y = H·R⁻¹.
+	y := mat.NewDense(n, k, nil)
+	var rinv mat.TriDense
+	if err := rinv.InverseTri(&r); err != nil {
+		return math.NaN(), math.NaN()
+	}
+	y.Mul(h, &rinv)
+	q := dense.Mul(nil, evalFull(truth), y) // ΣY, N×K
+	var yy, yq, ydq mat.Dense
+	yy.Mul(y.T(), y)
+	yq.Mul(y.T(), q)
+	dq := mat.NewDense(n, k, nil)
+	for i := 0; i < n; i++ {
+		d := s[i] * s[i]
+		for j := 0; j < k; j++ {
+			dq.Set(i, j, q.At(i, j)/d)
+		}
+	}
+	ydq.Mul(y.T(), dq)
+	for j := 0; j < k; j++ {
+		tr -= yy.At(j, j)
+		num -= 2 * ydq.At(j, j)
+	}
+	var m mat.Dense
+	m.Mul(&yq, &yy)
+	for j := 0; j < k; j++ {
+		num += m.At(j, j)
+	}
+	return tr, num
 }
