@@ -107,6 +107,17 @@ type Result struct {
 	// reason, in one line.
 	Recommendation string
 	Elapsed        time.Duration // wall-clock time of Evaluate; not used in any ranking
+	// Costs splits the work of the evaluation; not used in any ranking.
+	Costs Costs
+}
+
+// Costs is the wall-clock time of the parts of an evaluation, each summed
+// over the rebalance dates (dates run Workers at a time, so the parts add up
+// to about Workers times Result.Elapsed).
+type Costs struct {
+	Fits    time.Duration // riskmodel.Build of every estimator
+	Scoring time.Duration // the test portfolios of every forecast and their measures
+	Truth   time.Duration // with Options.Truth: the truth of the test periods and the losses against it
 }
 
 // Score holds an estimator's metrics over all test periods. Volatilities and
@@ -226,10 +237,21 @@ type PeriodForecast struct {
 // for the minimum-variance loss.
 func Run(p *riskmodel.Panel, opts *Options) (*Result, error) {
 	start := time.Now()
-	o, err := resolve(p, opts)
+	sh, err := RunShard(p, opts, 1, 1)
 	if err != nil {
 		return nil, err
 	}
+	out, err := Merge(sh)
+	if err != nil {
+		return nil, err
+	}
+	out.Elapsed = time.Since(start)
+	return out, nil
+}
+
+// rebalanceRows returns the panel rows of the rebalance dates: every Step
+// rows from row Window − 1, while a full test period of Step rows follows.
+func rebalanceRows(p *riskmodel.Panel, o resolvedOptions) ([]int, error) {
 	t, _ := p.Dims()
 	var asof []int
 	for r := o.Window - 1; r+o.Step <= t-1; r += o.Step {
@@ -239,30 +261,36 @@ func Run(p *riskmodel.Panel, opts *Options) (*Result, error) {
 		return nil, fmt.Errorf("riskmodel: evaluate: %w: %d dates leave no test period of %d dates after a window of %d",
 			ErrInput, t, o.Step, o.Window)
 	}
-	ev := &evaluator{p: p, o: o}
-	results := make([]*dateResult, len(asof))
-	errs := make([]error, len(asof))
+	return asof, nil
+}
+
+// runDates evaluates the rebalance dates q of qs (rows asof[q]) on Workers
+// goroutines and returns their results in the order of qs.
+func (ev *evaluator) runDates(asof, qs []int) ([]*dateResult, error) {
+	o := ev.o
+	results := make([]*dateResult, len(qs))
+	errs := make([]error, len(qs))
 	jobs := make(chan int)
 	var wg sync.WaitGroup
 	var mu sync.Mutex
 	done := 0
-	for w := 0; w < min(o.Workers, len(asof)); w++ {
+	for w := 0; w < min(o.Workers, len(qs)); w++ {
 		wg.Add(1)
 		go func() {
 			defer wg.Done()
-			for q := range jobs {
-				results[q], errs[q] = ev.date(q, asof[q])
+			for k := range jobs {
+				results[k], errs[k] = ev.date(qs[k], asof[qs[k]])
 				if o.Progress != nil {
 					mu.Lock()
 					done++
-					o.Progress(done, len(asof))
+					o.Progress(done, len(qs))
 					mu.Unlock()
 				}
 			}
 		}()
 	}
-	for q := range asof {
-		jobs <- q
+	for k := range qs {
+		jobs <- k
 	}
 	close(jobs)
 	wg.Wait()
@@ -271,9 +299,7 @@ func Run(p *riskmodel.Panel, opts *Options) (*Result, error) {
 			return nil, err
 		}
 	}
-	out := ev.gather(results)
-	out.Elapsed = time.Since(start)
-	return out, nil
+	return results, nil
 }
 
 // resolvedOptions is Options with its defaults resolved.
