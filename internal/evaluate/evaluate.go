@@ -379,11 +379,17 @@ func resolve(p *riskmodel.Panel, opts *Options) (resolvedOptions, error) {
 	if o.TrackingNames == 0 {
 		o.TrackingNames = DefaultTrackingNames
 	}
-	if o.TrackingNames < 1 {
-		return bad("TrackingNames = %d", o.TrackingNames)
+	if o.TrackingNames < 1 || o.TrackingNames > MaxTrackingNames {
+		return bad("TrackingNames = %d (1 to %d)", o.TrackingNames, MaxTrackingNames)
+	}
+	if o.RandomPortfolios > MaxRandomPortfolios {
+		return bad("RandomPortfolios = %d (at most %d)", o.RandomPortfolios, MaxRandomPortfolios)
 	}
 	if o.Workers <= 0 {
 		o.Workers = runtime.GOMAXPROCS(0)
+	}
+	if o.Workers > MaxWorkers {
+		return bad("Workers = %d (at most %d)", o.Workers, MaxWorkers)
 	}
 	for _, h := range [][]riskmodel.Holding{o.Benchmark, o.Fund} {
 		for _, x := range h {

@@ -150,3 +150,33 @@ func TestShardsMergeToOneRun(t *testing.T) {
 	require.NoError(t, err)
 	requireSameBits(t, withoutTimings(one), withoutTimings(merged))
 }
+
+// The memory estimate grows with the square of the assets for dense
+// estimators, with the workers, and shrinks per shard; the bounds on the
+// sizes are errors.
+func TestMemoryEstimate(t *testing.T) {
+	small, err := demo.Generate(&demo.Config{Seed: 5, Assets: 50, Sectors: 4, Dates: 150})
+	require.NoError(t, err)
+	large, err := demo.Generate(&demo.Config{Seed: 5, Assets: 100, Sectors: 4, Dates: 150})
+	require.NoError(t, err)
+	opts := &Options{Window: 80, Step: 10, Workers: 1, Methods: methodsOf(riskmodel.MethodLedoitWolf, riskmodel.MethodSample)}
+	ms, err := Memory(small.Panel, opts, 1)
+	require.NoError(t, err)
+	ml, err := Memory(large.Panel, opts, 1)
+	require.NoError(t, err)
+	// Two dense forecasts held, the fit's three N×N matrices and the
+	// scoring's six: 11 × 8·N² bytes.
+	require.GreaterOrEqual(t, ml-ms, int64(11*8*(100*100-50*50)), "N² terms")
+	two := *opts
+	two.Workers = 2
+	m2, err := Memory(small.Panel, &two, 1)
+	require.NoError(t, err)
+	require.Greater(t, m2, ms)
+	m3, err := Memory(small.Panel, opts, 3)
+	require.NoError(t, err)
+	require.Less(t, m3, ms)
+	for _, o := range []Options{{RandomPortfolios: MaxRandomPortfolios + 1}, {TrackingNames: MaxTrackingNames + 1}, {Workers: MaxWorkers + 1}} {
+		_, err := Memory(small.Panel, &o, 1)
+		require.ErrorIs(t, err, ErrInput)
+	}
+}
