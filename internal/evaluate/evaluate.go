@@ -831,20 +831,3 @@ func invTrace(s *mat.SymDense) float64 {
 	}
 	return tr
 }
-
-// denseAndInverse returns the model's covariance as a dense matrix and its
-// inverse (nil when it is not positive definite). Cost O(N³).
-func denseAndInverse(m *riskmodel.Model) (*mat.SymDense, *mat.SymDense) {
-	if f := m.Factor; f != nil {
-		return f.CovarianceTo(nil), f.InverseTo(nil)
-	}
-	var chol mat.Cholesky
-	if !chol.Factorize(m.Dense) {
-		return m.Dense, nil
-	}
-	inv := mat.NewSymDense(m.Dense.SymmetricDim(), nil)
-	if err := chol.InverseTo(inv); err != nil {
-		return m.Dense, nil
-	}
-	return m.Dense, inv
-}

@@ -127,39 +127,6 @@ func frobeniusLoss(est *mat.SymDense, truth *mat.SymDense) float64 {
 	return s / float64(n)
 }
 
-// mvLoss returns the minimum-variance loss of Ledoit & Wolf (2017),
-//
-//	L_MV(Σ̂, Σ) = [tr(Σ̂⁻¹ Σ Σ̂⁻¹)/N] / [tr(Σ̂⁻¹)/N]²  −  1 / [tr(Σ⁻¹)/N],
-//
-// the excess true variance of a minimum-variance portfolio built from Σ̂
-// over the one built from Σ, averaged over the linear constraint, so it is
-// zero when Σ̂ is proportional to Σ and positive otherwise. inv is Σ̂⁻¹ and
-// trueInvTrace is tr(Σ⁻¹). Cost O(N³) (one N×N product).
-//
-// References: Ledoit, O. & Wolf, M. (2017), "Nonlinear shrinkage of the
-// covariance matrix for portfolio selection: Markowitz meets Goldilocks",
-// Review of Financial Studies 30(12):4349–4388, Section 3 (the loss; the
-// equation number is from memory, not verified: their Definition 1).
-func mvLoss(inv, truth *mat.SymDense, trueInvTrace float64) float64 {
-	n := truth.SymmetricDim()
-	// Full dense copies, which the kernel reads in place.
-	iv, tv := evalFull(inv), evalFull(truth)
-	m := dense.Mul(nil, tv, iv) // ΣΣ̂⁻¹
-	var num, tr float64
-	for i := 0; i < n; i++ {
-		ir := iv.RawRowView(i)
-		tr += ir[i]
-		// Σ_j (Σ̂⁻¹)_ij (ΣΣ̂⁻¹)_ji summed over i is tr(Σ̂⁻¹ΣΣ̂⁻¹); Σ̂⁻¹ is
-		// symmetric, so (Σ̂⁻¹)_ij = (Σ̂⁻¹)_ji and row i of m pairs with row
-		// i of Σ̂⁻¹ after transposing m: use column i of m.
-		for j, v := range ir {
-			num += v * m.At(j, i)
-		}
-	}
-	nf := float64(n)
-	return (num/nf)/((tr/nf)*(tr/nf)) - 1/(trueInvTrace/nf)
-}
-
 // evalFull copies a symmetric matrix into a general dense one, both
 // triangles filled.
 func evalFull(s *mat.SymDense) *mat.Dense {
