@@ -308,20 +308,33 @@ type resolvedOptions struct {
 	names []string
 }
 
+// resolve applies the defaults of opts and checks them, in named steps:
+// the periods, the estimators, the sizes, the holdings.
 func resolve(p *riskmodel.Panel, opts *Options) (resolvedOptions, error) {
 	var o resolvedOptions
 	if opts != nil {
 		o.Options = *opts
 	}
-	bad := func(format string, args ...any) (resolvedOptions, error) {
-		return o, fmt.Errorf("riskmodel: evaluate: %w: %s", ErrInput, fmt.Sprintf(format, args...))
+	for _, step := range []func(*riskmodel.Panel) error{o.resolvePeriods, o.resolveEstimators, o.resolveSizes, o.checkHoldings} {
+		if err := step(p); err != nil {
+			return o, err
+		}
 	}
+	return o, nil
+}
+
+func inputError(format string, args ...any) error {
+	return fmt.Errorf("riskmodel: evaluate: %w: %s", ErrInput, fmt.Sprintf(format, args...))
+}
+
+// resolvePeriods sets Step and Window.
+func (o *resolvedOptions) resolvePeriods(p *riskmodel.Panel) error {
 	t, _ := p.Dims()
 	if o.Step == 0 {
 		o.Step = DefaultStep
 	}
 	if o.Step < 2 {
-		return bad("Step = %d (at least 2)", o.Step)
+		return inputError("Step = %d (at least 2)", o.Step)
 	}
 	if o.Window == 0 {
 		o.Window = riskmodel.DefaultWindow
@@ -330,8 +343,14 @@ func resolve(p *riskmodel.Panel, opts *Options) (resolvedOptions, error) {
 		}
 	}
 	if o.Window < 2 {
-		return bad("Window = %d (at least 2) for %d dates and Step %d", o.Window, t, o.Step)
+		return inputError("Window = %d (at least 2) for %d dates and Step %d", o.Window, t, o.Step)
 	}
+	return nil
+}
+
+// resolveEstimators sets the estimators, their names and their build
+// options, and the seed.
+func (o *resolvedOptions) resolveEstimators(*riskmodel.Panel) error {
 	if o.Seed == 0 {
 		o.Seed = DefaultSeed
 	}
@@ -346,7 +365,7 @@ func resolve(p *riskmodel.Panel, opts *Options) (resolvedOptions, error) {
 		o.Methods = slices.Clone(o.Methods)
 	}
 	if len(o.Methods) == 0 && o.Truth == nil {
-		return bad("no estimator")
+		return inputError("no estimator")
 	}
 	seen := map[string]bool{}
 	for k := range o.Methods {
@@ -355,14 +374,14 @@ func resolve(p *riskmodel.Panel, opts *Options) (resolvedOptions, error) {
 			m.Build.Method = riskmodel.MethodFactor
 		}
 		if !slices.Contains(riskmodel.Methods, m.Build.Method) {
-			return o, fmt.Errorf("riskmodel: evaluate: %w %q (one of %v)", riskmodel.ErrMethod, m.Build.Method, riskmodel.Methods)
+			return fmt.Errorf("riskmodel: evaluate: %w %q (one of %v)", riskmodel.ErrMethod, m.Build.Method, riskmodel.Methods)
 		}
 		if m.Name == "" {
 			m.Name = m.Build.Method
 		}
 		m.Build.Window, m.Build.MinObs, m.Build.Previous = o.Window, o.MinObs, nil
 		if seen[m.Name] || m.Name == OracleName {
-			return bad("estimator name %q is repeated or reserved", m.Name)
+			return inputError("estimator name %q is repeated or reserved", m.Name)
 		}
 		seen[m.Name] = true
 		o.names = append(o.names, m.Name)
@@ -370,38 +389,50 @@ func resolve(p *riskmodel.Panel, opts *Options) (resolvedOptions, error) {
 	if o.Truth != nil {
 		o.names = append(o.names, OracleName)
 	}
+	return nil
+}
+
+// resolveSizes sets and bounds the random portfolios, the tracking names
+// and the workers.
+func (o *resolvedOptions) resolveSizes(*riskmodel.Panel) error {
 	switch {
 	case o.RandomPortfolios == 0:
 		o.RandomPortfolios = DefaultRandomPortfolios
 	case o.RandomPortfolios < 0:
 		o.RandomPortfolios = 0
 	}
+	if o.RandomPortfolios > MaxRandomPortfolios {
+		return inputError("RandomPortfolios = %d (at most %d)", o.RandomPortfolios, MaxRandomPortfolios)
+	}
 	if o.TrackingNames == 0 {
 		o.TrackingNames = DefaultTrackingNames
 	}
 	if o.TrackingNames < 1 || o.TrackingNames > MaxTrackingNames {
-		return bad("TrackingNames = %d (1 to %d)", o.TrackingNames, MaxTrackingNames)
-	}
-	if o.RandomPortfolios > MaxRandomPortfolios {
-		return bad("RandomPortfolios = %d (at most %d)", o.RandomPortfolios, MaxRandomPortfolios)
+		return inputError("TrackingNames = %d (1 to %d)", o.TrackingNames, MaxTrackingNames)
 	}
 	if o.Workers <= 0 {
 		o.Workers = runtime.GOMAXPROCS(0)
 	}
 	if o.Workers > MaxWorkers {
-		return bad("Workers = %d (at most %d)", o.Workers, MaxWorkers)
+		return inputError("Workers = %d (at most %d)", o.Workers, MaxWorkers)
 	}
+	return nil
+}
+
+// checkHoldings checks that the benchmark and fund name assets of p with
+// finite weights.
+func (o *resolvedOptions) checkHoldings(p *riskmodel.Panel) error {
 	for _, h := range [][]riskmodel.Holding{o.Benchmark, o.Fund} {
 		for _, x := range h {
 			if _, ok := p.Column(x.Asset); !ok {
-				return o, fmt.Errorf("riskmodel: evaluate: %w: %w %q in the holdings", ErrInput, riskmodel.ErrUnknownAsset, x.Asset)
+				return fmt.Errorf("riskmodel: evaluate: %w: %w %q in the holdings", ErrInput, riskmodel.ErrUnknownAsset, x.Asset)
 			}
 			if math.IsNaN(x.Weight) || math.IsInf(x.Weight, 0) {
-				return o, fmt.Errorf("riskmodel: evaluate: %w: weight of %s: %w", ErrInput, x.Asset, riskmodel.ErrNonFinite)
+				return fmt.Errorf("riskmodel: evaluate: %w: weight of %s: %w", ErrInput, x.Asset, riskmodel.ErrNonFinite)
 			}
 		}
 	}
-	return o, nil
+	return nil
 }
 
 type evaluator struct {
