@@ -6,6 +6,7 @@ import (
 	"io"
 	"math"
 	"os"
+	"runtime/debug"
 	"runtime/pprof"
 	"strconv"
 	"strings"
@@ -139,7 +140,8 @@ func evaluationOptions(cfg config, panel *riskmodel.Panel, simTruth func(*mat.Sy
 
 // checkMemory refuses an evaluation (of one shard of n) whose memory
 // estimate (evaluate.Memory) exceeds the memory available, with both
-// figures in the error.
+// figures in the error, and otherwise sets the estimate as the runtime's
+// soft memory limit unless GOMEMLIMIT is set.
 func checkMemory(panel *riskmodel.Panel, opts *evaluate.Options, n int) error {
 	need, err := evaluate.Memory(panel, opts, n)
 	if err != nil {
@@ -148,6 +150,12 @@ func checkMemory(panel *riskmodel.Panel, opts *evaluate.Options, n int) error {
 	if avail, ok := sysmem.Available(); ok && need > avail {
 		return badInput{fmt.Errorf("the evaluation needs about %s of memory and %s is available; "+
 			"use fewer -workers, fewer -portfolios, -shard i/n, or fewer assets", sysmem.Gigabytes(need), sysmem.Gigabytes(avail))}
+	}
+	if os.Getenv("GOMEMLIMIT") == "" {
+		// The estimate as the runtime's soft limit: the collector keeps the
+		// heap near what is live instead of letting it double while the
+		// N×N matrices of each date come and go.
+		debug.SetMemoryLimit(need)
 	}
 	return nil
 }
