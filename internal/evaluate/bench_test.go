@@ -75,23 +75,34 @@ func BenchmarkDate(b *testing.B) {
 					}
 				}
 			})
-			if m == nil { // the fit's benchmark was filtered out
-				if m, _, err = riskmodel.Build(d.Panel, asof, &bo); err != nil {
-					b.Fatal(err)
-				}
-			}
-			in := ev.inputs(0, r, m.Assets)
 			b.Run(fmt.Sprintf("N=%d/%s/score", n, method), func(b *testing.B) {
+				m = fitted(b, d, asof, &bo, m)
+				in := ev.inputs(0, r, m.Assets)
 				for b.Loop() {
 					ev.score(&in, m)
 				}
 			})
-			ev.truth(&in)
 			b.Run(fmt.Sprintf("N=%d/%s/score+truth-loss", n, method), func(b *testing.B) {
+				m = fitted(b, d, asof, &bo, m)
+				in := ev.inputs(0, r, m.Assets)
+				ev.truth(&in)
 				for b.Loop() {
 					ev.score(&in, m)
 				}
 			})
 		}
 	}
+}
+
+// fitted returns m, or the fit of bo when m is nil (its benchmark was
+// filtered out).
+func fitted(b *testing.B, d *demo.Market, asof riskmodel.Date, bo *riskmodel.BuildOptions, m *riskmodel.Model) *riskmodel.Model {
+	if m != nil {
+		return m
+	}
+	m, _, err := riskmodel.Build(d.Panel, asof, bo)
+	if err != nil {
+		b.Fatal(err)
+	}
+	return m
 }

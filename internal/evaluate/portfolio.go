@@ -7,8 +7,6 @@ import (
 
 	"github.com/riskmodel/riskmodel"
 
-	"gonum.org/v1/gonum/blas"
-	"gonum.org/v1/gonum/blas/blas64"
 	"gonum.org/v1/gonum/lapack"
 	"gonum.org/v1/gonum/lapack/lapack64"
 	"gonum.org/v1/gonum/mat"
@@ -125,21 +123,111 @@ func newCovOp(c riskmodel.Covariance) *covOp {
 	return op
 }
 
-// choleskyCond returns LAPACK's estimate of the 1-norm condition number of
-// a from its Cholesky factor, as gonum's mat.Cholesky.Cond does (dlansy for
-// ‖A‖₁, dpocon for ‖A⁻¹‖₁). Cost O(N²) and a copy of the factor.
+// choleskyCond returns an estimate of the 1-norm condition number
+// ‖A‖₁·‖A⁻¹‖₁ of a from its Cholesky factor, as LAPACK's dpocon (and gonum's
+// mat.Cholesky.Cond) computes it: ‖A⁻¹‖₁ by Hager's estimator with Higham's
+// refinements (LAPACK's dlacn2), here with the multi-core solves of
+// dense.Cholesky instead of dpocon's scaled single-core ones (dlatrs). A
+// non-finite estimate (a near-singular a) is +Inf. Cost a few solves, O(N²)
+// each.
 //
-// Reference: Higham, N. J. (1988), "FORTRAN codes for estimating the
-// one-norm of a real or complex matrix, with applications to condition
-// estimation", ACM Trans. Math. Software 14(4):381–396 (dlacn2, which
-// dpocon calls).
+// References: Hager, W. W. (1984), "Condition estimates", SIAM J. Sci.
+// Stat. Comput. 5(2):311–316. Higham, N. J. (1988), "FORTRAN codes for
+// estimating the one-norm of a real or complex matrix, with applications to
+// condition estimation", ACM Trans. Math. Software 14(4):381–396
+// (Algorithm 4.1, which dlacn2 implements).
 func choleskyCond(ch *dense.Cholesky, a *mat.SymDense) float64 {
 	n := a.SymmetricDim()
-	work := make([]float64, 3*n)
-	norm := lapack64.Lansy(lapack.MaxColumnSum, a.RawSymmetric(), work)
-	u := ch.UTo(nil).RawTriangular()
-	rc := lapack64.Pocon(blas64.Symmetric{N: n, Stride: u.Stride, Data: u.Data, Uplo: blas.Upper}, norm, work, make([]int, n))
-	return 1 / rc
+	norm := lapack64.Lansy(lapack.MaxColumnSum, a.RawSymmetric(), make([]float64, n))
+	est := invNorm1(n, func(dst, x []float64) { ch.SolveVecTo(dst, x) })
+	c := norm * est
+	if math.IsNaN(c) || math.IsInf(c, 0) {
+		return math.Inf(1)
+	}
+	return c
+}
+
+// invNorm1 estimates ‖B‖₁ of a symmetric B given by its products
+// (dst = B·x), by Higham's Algorithm 4.1 (LAPACK's dlacn2 with at most five
+// iterations and its alternating-sign vector as a safeguard). For a
+// symmetric B, Bᵀx is B·x.
+func invNorm1(n int, mul func(dst, x []float64)) float64 {
+	const itmax = 5
+	x, y := make([]float64, n), make([]float64, n)
+	sign := make([]float64, n)
+	norm1 := func(v []float64) float64 {
+		var s float64
+		for _, e := range v {
+			s += math.Abs(e)
+		}
+		return s
+	}
+	argmax := func(v []float64) int {
+		j := 0
+		for i, e := range v {
+			if math.Abs(e) > math.Abs(v[j]) {
+				j = i
+			}
+		}
+		return j
+	}
+	signOf := func(v float64) float64 {
+		if v >= 0 {
+			return 1
+		}
+		return -1
+	}
+	for i := range x {
+		x[i] = 1 / float64(n)
+	}
+	mul(y, x)
+	if n == 1 {
+		return math.Abs(y[0])
+	}
+	est := norm1(y)
+	for i, v := range y {
+		sign[i] = signOf(v)
+	}
+	mul(x, sign)
+	j := argmax(x)
+	for iter := 2; ; iter++ {
+		clear(x)
+		x[j] = 1
+		mul(y, x)
+		old := est
+		est = norm1(y)
+		same := true
+		for i, v := range y {
+			if signOf(v) != sign[i] {
+				same = false
+				break
+			}
+		}
+		if same || est <= old {
+			break
+		}
+		for i, v := range y {
+			sign[i] = signOf(v)
+		}
+		mul(x, sign)
+		last := j
+		j = argmax(x)
+		if x[last] == math.Abs(x[j]) || iter >= itmax { // as dlacn2: x[last], not |x[last]|
+			break
+		}
+	}
+	// The alternating-sign vector guards against a poor estimate.
+	for i := range x {
+		x[i] = (1 + float64(i)/float64(n-1))
+		if i%2 == 1 {
+			x[i] = -x[i]
+		}
+	}
+	mul(y, x)
+	if alt := 2 * norm1(y) / float64(3*n); alt > est {
+		est = alt
+	}
+	return est
 }
 
 // sub returns the forecast on the assets at positions idx, as a covOp.
@@ -311,20 +399,38 @@ func (op *covOp) trackingQP(sb []float64, support []int) ([]float64, simplexResu
 }
 
 // projectSimplex replaces z by its Euclidean projection onto the simplex
-// {x ≥ 0, Σx = 1}: x = max(z − τ, 0) with τ from the sorted values. buf has
-// the length of z. Cost O(m log m).
+// {x ≥ 0, Σx = 1}: x = max(z − τ, 0), with τ by Michelot's algorithm as
+// Condat (2016) states it: τ = (Σ_{i∈S} zᵢ − 1)/|S| over the candidates S,
+// starting from all, then S = {zᵢ > τ} again until no candidate drops out
+// (τ only grows, and the largest zᵢ always stays). buf has the length of z.
+// Cost O(m) per pass, a few passes; no sort.
+//
+// References: Michelot, C. (1986), "A finite algorithm for finding the
+// projection of a point onto the canonical simplex of Rⁿ", J. Optimization
+// Theory and Applications 50(1):195–200. Condat, L. (2016), "Fast
+// projection onto the simplex and the ℓ1 ball", Mathematical Programming
+// 158:575–585.
 func projectSimplex(z, buf []float64) {
-	copy(buf, z)
-	slices.Sort(buf)
-	var cum float64
-	tau := 0.0
-	for k := len(buf) - 1; k >= 0; k-- {
-		cum += buf[k]
-		t := (cum - 1) / float64(len(buf)-k)
-		if k == 0 || buf[k-1] <= t {
-			tau = t
+	act := append(buf[:0], z...)
+	var sum float64
+	for _, v := range act {
+		sum += v
+	}
+	tau := (sum - 1) / float64(len(act))
+	for {
+		keep := act[:0]
+		sum = 0
+		for _, v := range act {
+			if v > tau {
+				keep = append(keep, v)
+				sum += v
+			}
+		}
+		if len(keep) == len(act) {
 			break
 		}
+		act = keep
+		tau = (sum - 1) / float64(len(act))
 	}
 	for k := range z {
 		z[k] = math.Max(z[k]-tau, 0)
