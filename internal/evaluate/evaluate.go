@@ -13,8 +13,6 @@ import (
 	"github.com/riskmodel/riskmodel"
 
 	"gonum.org/v1/gonum/mat"
-
-	"github.com/riskmodel/riskmodel/internal/dense"
 )
 
 // Defaults of Options.
@@ -480,10 +478,10 @@ type dateInputs struct {
 	randLong   [][]float64
 	randDraws  [][]float64 // the long-only draws behind the random active portfolios
 	support    []int       // the tracking portfolio's names
-	// With a truth: the mean true covariance of the test period and
-	// tr(Σ⁻¹) of it.
-	target         *mat.SymDense
-	targetInvTrace float64
+	// With a truth: the mean true covariance of the test period and what
+	// the losses against it need.
+	target *mat.SymDense
+	truthF *truthFactor
 }
 
 // date fits every estimator on the window ending at row r and measures the
@@ -651,7 +649,7 @@ func (ev *evaluator) truth(in *dateInputs) *mat.SymDense {
 		in.target.AddSym(in.target, subSym(full, in.cols))
 	}
 	in.target.ScaleSym(1/float64(in.k), in.target)
-	in.targetInvTrace = invTrace(in.target)
+	in.truthF = newTruthFactor(in.target)
 	return oracle
 }
 
@@ -731,7 +729,7 @@ func (ev *evaluator) score(in *dateInputs, m *riskmodel.Model) (estimatorDate, f
 	} else {
 		ed.forecast.FrobeniusLoss = frobeniusLoss(m.Dense, in.target)
 	}
-	ed.forecast.MVLoss = mvLossOf(op, in.target, in.targetInvTrace)
+	ed.forecast.MVLoss = mvLossOf(op, in.truthF)
 	return ed, time.Since(t0).Seconds()
 }
 
@@ -753,7 +751,7 @@ func (ev *evaluator) sampleLosses(in *dateInputs, asof riskmodel.Date, res *date
 	}
 	sm = restrictModel(sm, in.universe)
 	res.est[0].sampleFrob = frobeniusLoss(sm.Dense, in.target)
-	res.est[0].sampleMV = mvLossOf(newCovOp(sm.Dense), in.target, in.targetInvTrace)
+	res.est[0].sampleMV = mvLossOf(newCovOp(sm.Dense), in.truthF)
 	return nil
 }
 
@@ -840,25 +838,4 @@ func restrictModel(m *riskmodel.Model, assets []string) *riskmodel.Model {
 		r.Dense = subSym(m.Dense, idx)
 	}
 	return &r
-}
-
-// invTrace returns tr(Σ⁻¹), NaN if Σ is not positive definite: a Cholesky
-// factorization and two triangular solves against the identity, on all
-// cores (dense.Cholesky), 2N³ + N³/3 flops.
-func invTrace(s *mat.SymDense) float64 {
-	var ch dense.Cholesky
-	if !ch.Factorize(s) {
-		return math.NaN()
-	}
-	n := s.SymmetricDim()
-	id := mat.NewDense(n, n, nil)
-	for i := 0; i < n; i++ {
-		id.Set(i, i, 1)
-	}
-	inv := ch.SolveTo(id, id)
-	var tr float64
-	for i := 0; i < n; i++ {
-		tr += inv.At(i, i)
-	}
-	return tr
 }

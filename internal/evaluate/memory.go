@@ -20,8 +20,8 @@ const (
 // (riskmodel.BuildMemory on the window), the scoring's working copies of
 // one forecast (the full matrix, its Cholesky factor, a ridged copy and its
 // factor, the inverse and its square for the minimum-variance loss: about
-// 6 × 8·N²) and, with a truth, the truth of all assets and the mean truth of
-// the test period (3 × 8·N²); and for every date of the shard the measures
+// 6 × 8·N²) and, with a truth, the truth of all assets, the mean truth of
+// the test period, its Cholesky factor, L and L⁻ᵀ (5 × 8·N²); and for every date of the shard the measures
 // kept for the ranking (per estimator, 2·RandomPortfolios + 7 series of Step
 // values and N weights). The figure errs on the high side; it is an
 // estimate, not a bound. Errors: those of resolving the options (ErrInput).
@@ -50,7 +50,7 @@ func Memory(p *riskmodel.Panel, opts *Options, n int) (int64, error) {
 	work := 6 * nn
 	if o.Truth != nil {
 		held += nn // the oracle
-		work += 3 * nn
+		work += 5 * nn
 	}
 	workers := int64(min(o.Workers, max(dates, 1)))
 	perDate := int64(len(o.names)) * 8 * (int64(2*o.RandomPortfolios+7)*int64(o.Step) + int64(assets))

@@ -163,34 +163,77 @@ func prial(lossSample, loss float64) float64 {
 // (gonum's mat.ConditionTolerance).
 const condTolerance = 1e16
 
+// truthFactor is what the minimum-variance losses against a truth Σ need,
+// computed once per date: Σ = LLᵀ (Cholesky, L = Uᵀ), L⁻ᵀ = U⁻¹ and
+// tr(Σ⁻¹) = ‖U⁻¹‖²_F. A truth that is not positive definite has L nil and
+// invTrace NaN.
+type truthFactor struct {
+	sigma    *mat.SymDense
+	l, uinv  *mat.Dense
+	invTrace float64
+}
+
+// newTruthFactor factors the truth on all cores: the Cholesky factor
+// (N³/3 flops) and U⁻¹ = Σ⁻¹·Uᵀ by two triangular solves (2N³).
+func newTruthFactor(sigma *mat.SymDense) *truthFactor {
+	tf := &truthFactor{sigma: sigma, invTrace: math.NaN()}
+	var ch dense.Cholesky
+	if !ch.Factorize(sigma) {
+		return tf
+	}
+	n := sigma.SymmetricDim()
+	u := ch.UTo(nil)
+	tf.l = mat.NewDense(n, n, nil)
+	tf.l.Copy(u.T())
+	tf.uinv = ch.SolveTo(nil, tf.l)
+	tf.invTrace = symFrob2(tf.uinv)
+	return tf
+}
+
+// invTrace returns tr(Σ⁻¹), NaN if Σ is not positive definite.
+func invTrace(s *mat.SymDense) float64 { return newTruthFactor(s).invTrace }
+
+// symFrob2 returns ‖a‖²_F.
+func symFrob2(a *mat.Dense) float64 {
+	r := a.RawMatrix()
+	var s float64
+	for i := 0; i < r.Rows; i++ {
+		for _, v := range r.Data[i*r.Stride : i*r.Stride+r.Cols] {
+			s += v * v
+		}
+	}
+	return s
+}
+
 // mvLossOf returns the minimum-variance loss of the forecast behind op
-// against truth (see mvLoss), NaN when the forecast is not positive
-// definite. A dense forecast reuses op's Cholesky factor: Σ̂⁻¹ by two
-// triangular solves (2N³ flops) and tr(Σ̂⁻¹ΣΣ̂⁻¹) = ⟨Σ̂⁻¹Σ̂⁻¹, Σ⟩ with the
-// symmetric product on all cores (N³). A factor forecast stays in factor
-// form (factorMVTraces), O(N²·K).
-func mvLossOf(op *covOp, truth *mat.SymDense, trueInvTrace float64) float64 {
-	n := truth.SymmetricDim()
+// against the truth of tf (see mvLoss), NaN when either is not positive
+// definite. A dense forecast reuses op's Cholesky factor: with Σ = LLᵀ and
+// Z = Σ̂⁻¹L (two triangular solves on all cores, 2N³ flops),
+//
+//	tr(Σ̂⁻¹ΣΣ̂⁻¹) = ‖Z‖²_F,   tr(Σ̂⁻¹) = tr(Z·L⁻¹) = ⟨Z, L⁻ᵀ⟩_F.
+//
+// A factor forecast stays in factor form (factorMVTraces), O(N²·K).
+func mvLossOf(op *covOp, tf *truthFactor) float64 {
+	if tf.l == nil {
+		return math.NaN()
+	}
+	n := tf.sigma.SymmetricDim()
 	var tr, num float64
 	switch {
 	case op.fm != nil:
-		tr, num = factorMVTraces(op.fm, truth)
+		tr, num = factorMVTraces(op.fm, tf.sigma)
 	case op.chol != nil && op.cond <= condTolerance:
-		id := mat.NewDense(n, n, nil)
+		z := op.chol.SolveTo(nil, tf.l)
+		num = symFrob2(z)
+		zr, ur := z.RawMatrix(), tf.uinv.RawMatrix()
 		for i := 0; i < n; i++ {
-			id.Set(i, i, 1)
+			tr += evalDot(zr.Data[i*zr.Stride:i*zr.Stride+n], ur.Data[i*ur.Stride:i*ur.Stride+n])
 		}
-		inv := op.chol.SolveTo(id, id)
-		for i := 0; i < n; i++ {
-			tr += inv.At(i, i)
-		}
-		sq := dense.XtWX(nil, inv, nil) // Σ̂⁻¹ᵀΣ̂⁻¹ = Σ̂⁻²
-		num = symInner(sq, truth)
 	default:
 		return math.NaN()
 	}
 	nf := float64(n)
-	return (num/nf)/((tr/nf)*(tr/nf)) - 1/(trueInvTrace/nf)
+	return (num/nf)/((tr/nf)*(tr/nf)) - 1/(tf.invTrace/nf)
 }
 
 // symInner returns ⟨a, b⟩ = Σᵢⱼ aᵢⱼbᵢⱼ of two symmetric matrices, from their

@@ -186,11 +186,13 @@ func TestMVLossOfMatchesReference(t *testing.T) {
 	} {
 		_, inv := denseAndInverse(m)
 		want := mvLoss(inv, truth, tr)
-		got := mvLossOf(newCovOp(m.Covariance()), truth, tr)
+		got := mvLossOf(newCovOp(m.Covariance()), newTruthFactor(truth))
 		require.InDelta(t, want, got, 1e-12*math.Abs(want), name)
 		require.Positive(t, got, name)
 	}
-	require.InDelta(t, 0, mvLossOf(newCovOp(truth), truth, tr), 1e-12)
+	require.InDelta(t, 0, mvLossOf(newCovOp(truth), newTruthFactor(truth)), 1e-12)
 	// Not positive definite: NaN.
-	require.True(t, math.IsNaN(mvLossOf(newCovOp(mat.NewSymDense(2, []float64{1, 1, 1, 1})), mat.NewSymDense(2, []float64{1, 0, 0, 1}), 2)))
+	singular := mat.NewSymDense(2, []float64{1, 1, 1, 1})
+	require.True(t, math.IsNaN(mvLossOf(newCovOp(singular), newTruthFactor(mat.NewSymDense(2, []float64{1, 0, 0, 1})))))
+	require.True(t, math.IsNaN(mvLossOf(newCovOp(mat.NewSymDense(2, []float64{1, 0, 0, 1})), newTruthFactor(singular))))
 }
