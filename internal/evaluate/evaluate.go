@@ -230,9 +230,14 @@ type PeriodForecast struct {
 // Window below 2, no rebalance date with a full test period, an unknown
 // benchmark asset), and any error of riskmodel.Build, naming the date and estimator.
 //
-// Cost per date: one fit per estimator plus, per estimator, O(S) products
-// with the forecast (S the long-only solver's steps) and, with Truth, O(N³)
-// for the minimum-variance loss.
+// Cost per date: one fit per estimator plus, per estimator, its scoring: a
+// factor forecast O(N·K) per product (Woodbury solves); a dense one a
+// Cholesky factorization on all cores (N³/3 flops), shared by the
+// minimum-variance solve, the condition check and the loss, and O(S)
+// products of O(N·nnz) (S the long-only solver's steps, nnz its nonzero
+// weights); with Truth, 2N³ for the minimum-variance loss of a dense
+// forecast, O(N²·K) of a factor one. Result.Costs reports the split. Run is
+// RunShard of one shard merged (see Merge).
 func Run(p *riskmodel.Panel, opts *Options) (*Result, error) {
 	start := time.Now()
 	sh, err := RunShard(p, opts, 1, 1)
