@@ -22,6 +22,7 @@ import (
 	"os"
 	"path/filepath"
 	"slices"
+	"strconv"
 	"strings"
 
 	"github.com/riskmodel/riskmodel/internal/evaluate"
@@ -56,7 +57,20 @@ type config struct {
 	truth                    bool
 	workers                  int
 	sim                      string // a simulated market instead of files: -sim key=value,...
+	cpuProfile               string // write a CPU profile of the evaluation to this file
+	quiet                    bool   // no progress on stderr
+	shard, shards            int    // -shard i/n; 0/0 for the whole evaluation
+	out                      string // -o: the shard file
+	merge                    []string
 }
+
+// Bounds on the size flags: past them a run only spends memory and time.
+const (
+	maxStep, maxWindow = 100_000, 100_000
+	maxSimAssets       = 20_000
+	maxSimDates        = 100_000
+	maxShards          = 10_000
+)
 
 // badInput marks an error caused by the user's flags or files.
 type badInput struct{ err error }
@@ -108,28 +122,60 @@ func parseFlags(args []string, stderr io.Writer) (config, error) {
 	fs.BoolVar(&cfg.truth, "truth", true, "with the demo's returns, add its true covariance as the oracle and the losses against it")
 	fs.IntVar(&cfg.workers, "workers", 0, "rebalance dates processed at once (default the number of cores)")
 	fs.StringVar(&cfg.sim, "sim", "", "evaluate on a simulated market with its truth instead of files: comma-separated seed=, assets=, sectors=, dates=, stress-start=, stress-length= of the demo generator (e.g. sectors=25,assets=800)")
+	fs.StringVar(&cfg.cpuProfile, "cpuprofile", "", "write a CPU profile of the evaluation to this file (for go tool pprof)")
+	fs.BoolVar(&cfg.quiet, "quiet", false, "no progress on stderr (there is none when stderr is not a terminal)")
+	shard := fs.String("shard", "", "evaluate only slice i of n of the rebalance dates (1 ≤ i ≤ n) and write it to -o, for -merge")
+	fs.StringVar(&cfg.out, "o", "", "the shard file that -shard writes")
+	merge := fs.Bool("merge", false, "merge the shard files given as arguments (every shard of one evaluation) into its results, instead of evaluating")
 	if err := fs.Parse(args); err != nil {
 		if errors.Is(err, flag.ErrHelp) {
 			return cfg, err
 		}
 		return cfg, badInput{err}
 	}
-	if fs.NArg() > 0 {
+	if *merge {
+		if fs.NArg() == 0 {
+			return cfg, badInput{errors.New("-merge needs the shard files as arguments")}
+		}
+		if *shard != "" {
+			return cfg, badInput{errors.New("-merge and -shard exclude each other")}
+		}
+		cfg.merge = fs.Args()
+	} else if fs.NArg() > 0 {
 		return cfg, badInput{fmt.Errorf("unexpected argument %q", fs.Arg(0))}
+	}
+	if *shard != "" {
+		i, n, ok := strings.Cut(*shard, "/")
+		var err1, err2 error
+		cfg.shard, err1 = strconv.Atoi(i)
+		cfg.shards, err2 = strconv.Atoi(n)
+		if !ok || err1 != nil || err2 != nil || cfg.shards < 1 || cfg.shards > maxShards || cfg.shard < 1 || cfg.shard > cfg.shards {
+			return cfg, badInput{fmt.Errorf("-shard must be i/n with 1 ≤ i ≤ n ≤ %d, got %q", maxShards, *shard)}
+		}
+		if cfg.out == "" {
+			return cfg, badInput{errors.New("-shard needs -o FILE for the shard's results")}
+		}
+	} else if cfg.out != "" {
+		return cfg, badInput{errors.New("-o is for -shard")}
 	}
 	switch cfg.format {
 	case "text", "csv", "json":
 	default:
 		return cfg, badInput{fmt.Errorf("-format must be text, csv or json, got %q", cfg.format)}
 	}
-	if cfg.step < 2 {
-		return cfg, badInput{fmt.Errorf("-step must be at least 2, got %d", cfg.step)}
-	}
-	if cfg.window < 2 {
-		return cfg, badInput{fmt.Errorf("-window must be at least 2, got %d", cfg.window)}
-	}
-	if cfg.portfolios < 0 || cfg.tracking < 1 || cfg.workers < 0 {
-		return cfg, badInput{errors.New("-portfolios and -workers must not be negative, -tracking-names must be positive")}
+	for _, b := range []struct {
+		name           string
+		v, least, most int
+	}{
+		{"-step", cfg.step, 2, maxStep},
+		{"-window", cfg.window, 2, maxWindow},
+		{"-portfolios", cfg.portfolios, 0, evaluate.MaxRandomPortfolios},
+		{"-tracking-names", cfg.tracking, 1, evaluate.MaxTrackingNames},
+		{"-workers", cfg.workers, 0, evaluate.MaxWorkers},
+	} {
+		if b.v < b.least || b.v > b.most {
+			return cfg, badInput{fmt.Errorf("%s must be %d to %d, got %d", b.name, b.least, b.most, b.v)}
+		}
 	}
 	if cfg.sim != "" {
 		if _, err := simConfig(cfg.sim); err != nil {

@@ -1,14 +1,12 @@
 package main
 
 import (
-	"bufio"
 	"fmt"
 	"os"
 	"runtime/debug"
-	"strconv"
-	"strings"
 
 	"github.com/riskmodel/riskmodel"
+	"github.com/riskmodel/riskmodel/internal/sysmem"
 )
 
 // checkMemory estimates the job's peak memory before the build and refuses
@@ -30,49 +28,7 @@ func checkMemory(method string, dates, assets int, prev *riskmodel.Model) (int64
 	return need, nil
 }
 
-// availableMemory is the smaller of /proc/meminfo's MemAvailable and the
-// room left under a cgroup (v2) memory limit; ok is false where neither can
-// be read.
-func availableMemory() (int64, bool) {
-	avail, ok := memInfoAvailable()
-	if lim, used, cg := cgroupRoom(); cg && (!ok || lim-used < avail) {
-		avail, ok = lim-used, true
-	}
-	return avail, ok
-}
+// availableMemory is sysmem.Available.
+func availableMemory() (int64, bool) { return sysmem.Available() }
 
-func memInfoAvailable() (int64, bool) {
-	f, err := os.Open("/proc/meminfo")
-	if err != nil {
-		return 0, false
-	}
-	defer f.Close()
-	sc := bufio.NewScanner(f)
-	for sc.Scan() {
-		fields := strings.Fields(sc.Text())
-		if len(fields) >= 2 && fields[0] == "MemAvailable:" {
-			kb, err := strconv.ParseInt(fields[1], 10, 64)
-			return kb << 10, err == nil
-		}
-	}
-	return 0, false
-}
-
-func cgroupRoom() (limit, used int64, ok bool) {
-	read := func(name string) (int64, bool) {
-		b, err := os.ReadFile("/sys/fs/cgroup/" + name)
-		if err != nil {
-			return 0, false
-		}
-		v, err := strconv.ParseInt(strings.TrimSpace(string(b)), 10, 64) // "max" fails: no limit
-		return v, err == nil
-	}
-	limit, ok = read("memory.max")
-	if !ok {
-		return 0, 0, false
-	}
-	used, ok = read("memory.current")
-	return limit, used, ok
-}
-
-func gigabytes(b int64) string { return fmt.Sprintf("%.2f GB", float64(b)/1e9) }
+func gigabytes(b int64) string { return sysmem.Gigabytes(b) }

@@ -44,3 +44,65 @@ func BenchmarkEvaluateDemo(b *testing.B) {
 		}
 	}
 }
+
+// One rebalance date of a simulated market of N assets (window 504, a test
+// period of 21 dates, the demo's truth): the fit of each estimator, and the
+// scoring of its forecast (every test portfolio and its measures) with and
+// without the losses against the truth, so that the cost of scoring can be
+// set against the cost of fitting. Run with -benchtime=1x at N = 3000.
+func BenchmarkDate(b *testing.B) {
+	for _, n := range []int{1000, 3000} {
+		d, err := demo.Generate(&demo.Config{Seed: 2, Assets: n, Sectors: 20, Dates: 504 + 22})
+		if err != nil {
+			b.Fatal(err)
+		}
+		opts := &Options{Window: 504, Step: 21, Truth: d.TrueCovarianceTo, Benchmark: d.Benchmark}
+		o, err := resolve(d.Panel, opts)
+		if err != nil {
+			b.Fatal(err)
+		}
+		ev := &evaluator{p: d.Panel, o: o}
+		r := 503
+		asof := d.Panel.Date(r)
+		for _, method := range []string{riskmodel.MethodLedoitWolf, riskmodel.MethodFactor} {
+			bo := riskmodel.BuildOptions{Method: method, Seed: 1, Window: 504}
+			var m *riskmodel.Model
+			b.Run(fmt.Sprintf("N=%d/%s/fit", n, method), func(b *testing.B) {
+				for b.Loop() {
+					m, _, err = riskmodel.Build(d.Panel, asof, &bo)
+					if err != nil {
+						b.Fatal(err)
+					}
+				}
+			})
+			b.Run(fmt.Sprintf("N=%d/%s/score", n, method), func(b *testing.B) {
+				m = fitted(b, d, asof, &bo, m)
+				in := ev.inputs(0, r, m.Assets)
+				for b.Loop() {
+					ev.score(&in, m)
+				}
+			})
+			b.Run(fmt.Sprintf("N=%d/%s/score+truth-loss", n, method), func(b *testing.B) {
+				m = fitted(b, d, asof, &bo, m)
+				in := ev.inputs(0, r, m.Assets)
+				ev.truth(&in)
+				for b.Loop() {
+					ev.score(&in, m)
+				}
+			})
+		}
+	}
+}
+
+// fitted returns m, or the fit of bo when m is nil (its benchmark was
+// filtered out).
+func fitted(b *testing.B, d *demo.Market, asof riskmodel.Date, bo *riskmodel.BuildOptions, m *riskmodel.Model) *riskmodel.Model {
+	if m != nil {
+		return m
+	}
+	m, _, err := riskmodel.Build(d.Panel, asof, bo)
+	if err != nil {
+		b.Fatal(err)
+	}
+	return m
+}

@@ -105,6 +105,17 @@ type Result struct {
 	// reason, in one line.
 	Recommendation string
 	Elapsed        time.Duration // wall-clock time of Evaluate; not used in any ranking
+	// Costs splits the work of the evaluation; not used in any ranking.
+	Costs Costs
+}
+
+// Costs is the wall-clock time of the parts of an evaluation, each summed
+// over the rebalance dates (dates run Workers at a time, so the parts add up
+// to about Workers times Result.Elapsed).
+type Costs struct {
+	Fits    time.Duration // riskmodel.Build of every estimator
+	Scoring time.Duration // the test portfolios of every forecast and their measures
+	Truth   time.Duration // with Options.Truth: the truth of the test periods and the losses against it
 }
 
 // Score holds an estimator's metrics over all test periods. Volatilities and
@@ -219,15 +230,31 @@ type PeriodForecast struct {
 // Window below 2, no rebalance date with a full test period, an unknown
 // benchmark asset), and any error of riskmodel.Build, naming the date and estimator.
 //
-// Cost per date: one fit per estimator plus, per estimator, O(S) products
-// with the forecast (S the long-only solver's steps) and, with Truth, O(N³)
-// for the minimum-variance loss.
+// Cost per date: one fit per estimator plus, per estimator, its scoring: a
+// factor forecast O(N·K) per product (Woodbury solves); a dense one a
+// Cholesky factorization on all cores (N³/3 flops), shared by the
+// minimum-variance solve, the condition check and the loss, and O(S)
+// products of O(N·nnz) (S the long-only solver's steps, nnz its nonzero
+// weights); with Truth, 2N³ for the minimum-variance loss of a dense
+// forecast, O(N²·K) of a factor one. Result.Costs reports the split. Run is
+// RunShard of one shard merged (see Merge).
 func Run(p *riskmodel.Panel, opts *Options) (*Result, error) {
 	start := time.Now()
-	o, err := resolve(p, opts)
+	sh, err := RunShard(p, opts, 1, 1)
 	if err != nil {
 		return nil, err
 	}
+	out, err := Merge(sh)
+	if err != nil {
+		return nil, err
+	}
+	out.Elapsed = time.Since(start)
+	return out, nil
+}
+
+// rebalanceRows returns the panel rows of the rebalance dates: every Step
+// rows from row Window − 1, while a full test period of Step rows follows.
+func rebalanceRows(p *riskmodel.Panel, o resolvedOptions) ([]int, error) {
 	t, _ := p.Dims()
 	var asof []int
 	for r := o.Window - 1; r+o.Step <= t-1; r += o.Step {
@@ -237,30 +264,36 @@ func Run(p *riskmodel.Panel, opts *Options) (*Result, error) {
 		return nil, fmt.Errorf("riskmodel: evaluate: %w: %d dates leave no test period of %d dates after a window of %d",
 			ErrInput, t, o.Step, o.Window)
 	}
-	ev := &evaluator{p: p, o: o}
-	results := make([]*dateResult, len(asof))
-	errs := make([]error, len(asof))
+	return asof, nil
+}
+
+// runDates evaluates the rebalance dates q of qs (rows asof[q]) on Workers
+// goroutines and returns their results in the order of qs.
+func (ev *evaluator) runDates(asof, qs []int) ([]*dateResult, error) {
+	o := ev.o
+	results := make([]*dateResult, len(qs))
+	errs := make([]error, len(qs))
 	jobs := make(chan int)
 	var wg sync.WaitGroup
 	var mu sync.Mutex
 	done := 0
-	for w := 0; w < min(o.Workers, len(asof)); w++ {
+	for w := 0; w < min(o.Workers, len(qs)); w++ {
 		wg.Add(1)
 		go func() {
 			defer wg.Done()
-			for q := range jobs {
-				results[q], errs[q] = ev.date(q, asof[q])
+			for k := range jobs {
+				results[k], errs[k] = ev.date(qs[k], asof[qs[k]])
 				if o.Progress != nil {
 					mu.Lock()
 					done++
-					o.Progress(done, len(asof))
+					o.Progress(done, len(qs))
 					mu.Unlock()
 				}
 			}
 		}()
 	}
-	for q := range asof {
-		jobs <- q
+	for k := range qs {
+		jobs <- k
 	}
 	close(jobs)
 	wg.Wait()
@@ -269,9 +302,7 @@ func Run(p *riskmodel.Panel, opts *Options) (*Result, error) {
 			return nil, err
 		}
 	}
-	out := ev.gather(results)
-	out.Elapsed = time.Since(start)
-	return out, nil
+	return results, nil
 }
 
 // resolvedOptions is Options with its defaults resolved.
@@ -280,20 +311,33 @@ type resolvedOptions struct {
 	names []string
 }
 
+// resolve applies the defaults of opts and checks them, in named steps:
+// the periods, the estimators, the sizes, the holdings.
 func resolve(p *riskmodel.Panel, opts *Options) (resolvedOptions, error) {
 	var o resolvedOptions
 	if opts != nil {
 		o.Options = *opts
 	}
-	bad := func(format string, args ...any) (resolvedOptions, error) {
-		return o, fmt.Errorf("riskmodel: evaluate: %w: %s", ErrInput, fmt.Sprintf(format, args...))
+	for _, step := range []func(*riskmodel.Panel) error{o.resolvePeriods, o.resolveEstimators, o.resolveSizes, o.checkHoldings} {
+		if err := step(p); err != nil {
+			return o, err
+		}
 	}
+	return o, nil
+}
+
+func inputError(format string, args ...any) error {
+	return fmt.Errorf("riskmodel: evaluate: %w: %s", ErrInput, fmt.Sprintf(format, args...))
+}
+
+// resolvePeriods sets Step and Window.
+func (o *resolvedOptions) resolvePeriods(p *riskmodel.Panel) error {
 	t, _ := p.Dims()
 	if o.Step == 0 {
 		o.Step = DefaultStep
 	}
 	if o.Step < 2 {
-		return bad("Step = %d (at least 2)", o.Step)
+		return inputError("Step = %d (at least 2)", o.Step)
 	}
 	if o.Window == 0 {
 		o.Window = riskmodel.DefaultWindow
@@ -302,8 +346,14 @@ func resolve(p *riskmodel.Panel, opts *Options) (resolvedOptions, error) {
 		}
 	}
 	if o.Window < 2 {
-		return bad("Window = %d (at least 2) for %d dates and Step %d", o.Window, t, o.Step)
+		return inputError("Window = %d (at least 2) for %d dates and Step %d", o.Window, t, o.Step)
 	}
+	return nil
+}
+
+// resolveEstimators sets the estimators, their names and their build
+// options, and the seed.
+func (o *resolvedOptions) resolveEstimators(*riskmodel.Panel) error {
 	if o.Seed == 0 {
 		o.Seed = DefaultSeed
 	}
@@ -318,7 +368,7 @@ func resolve(p *riskmodel.Panel, opts *Options) (resolvedOptions, error) {
 		o.Methods = slices.Clone(o.Methods)
 	}
 	if len(o.Methods) == 0 && o.Truth == nil {
-		return bad("no estimator")
+		return inputError("no estimator")
 	}
 	seen := map[string]bool{}
 	for k := range o.Methods {
@@ -327,14 +377,14 @@ func resolve(p *riskmodel.Panel, opts *Options) (resolvedOptions, error) {
 			m.Build.Method = riskmodel.MethodFactor
 		}
 		if !slices.Contains(riskmodel.Methods, m.Build.Method) {
-			return o, fmt.Errorf("riskmodel: evaluate: %w %q (one of %v)", riskmodel.ErrMethod, m.Build.Method, riskmodel.Methods)
+			return fmt.Errorf("riskmodel: evaluate: %w %q (one of %v)", riskmodel.ErrMethod, m.Build.Method, riskmodel.Methods)
 		}
 		if m.Name == "" {
 			m.Name = m.Build.Method
 		}
 		m.Build.Window, m.Build.MinObs, m.Build.Previous = o.Window, o.MinObs, nil
 		if seen[m.Name] || m.Name == OracleName {
-			return bad("estimator name %q is repeated or reserved", m.Name)
+			return inputError("estimator name %q is repeated or reserved", m.Name)
 		}
 		seen[m.Name] = true
 		o.names = append(o.names, m.Name)
@@ -342,32 +392,50 @@ func resolve(p *riskmodel.Panel, opts *Options) (resolvedOptions, error) {
 	if o.Truth != nil {
 		o.names = append(o.names, OracleName)
 	}
+	return nil
+}
+
+// resolveSizes sets and bounds the random portfolios, the tracking names
+// and the workers.
+func (o *resolvedOptions) resolveSizes(*riskmodel.Panel) error {
 	switch {
 	case o.RandomPortfolios == 0:
 		o.RandomPortfolios = DefaultRandomPortfolios
 	case o.RandomPortfolios < 0:
 		o.RandomPortfolios = 0
 	}
+	if o.RandomPortfolios > MaxRandomPortfolios {
+		return inputError("RandomPortfolios = %d (at most %d)", o.RandomPortfolios, MaxRandomPortfolios)
+	}
 	if o.TrackingNames == 0 {
 		o.TrackingNames = DefaultTrackingNames
 	}
-	if o.TrackingNames < 1 {
-		return bad("TrackingNames = %d", o.TrackingNames)
+	if o.TrackingNames < 1 || o.TrackingNames > MaxTrackingNames {
+		return inputError("TrackingNames = %d (1 to %d)", o.TrackingNames, MaxTrackingNames)
 	}
 	if o.Workers <= 0 {
 		o.Workers = runtime.GOMAXPROCS(0)
 	}
+	if o.Workers > MaxWorkers {
+		return inputError("Workers = %d (at most %d)", o.Workers, MaxWorkers)
+	}
+	return nil
+}
+
+// checkHoldings checks that the benchmark and fund name assets of p with
+// finite weights.
+func (o *resolvedOptions) checkHoldings(p *riskmodel.Panel) error {
 	for _, h := range [][]riskmodel.Holding{o.Benchmark, o.Fund} {
 		for _, x := range h {
 			if _, ok := p.Column(x.Asset); !ok {
-				return o, fmt.Errorf("riskmodel: evaluate: %w: %w %q in the holdings", ErrInput, riskmodel.ErrUnknownAsset, x.Asset)
+				return fmt.Errorf("riskmodel: evaluate: %w: %w %q in the holdings", ErrInput, riskmodel.ErrUnknownAsset, x.Asset)
 			}
 			if math.IsNaN(x.Weight) || math.IsInf(x.Weight, 0) {
-				return o, fmt.Errorf("riskmodel: evaluate: %w: weight of %s: %w", ErrInput, x.Asset, riskmodel.ErrNonFinite)
+				return fmt.Errorf("riskmodel: evaluate: %w: weight of %s: %w", ErrInput, x.Asset, riskmodel.ErrNonFinite)
 			}
 		}
 	}
-	return o, nil
+	return nil
 }
 
 type evaluator struct {
@@ -381,6 +449,9 @@ type dateResult struct {
 	est      []estimatorDate
 	refRet   []float64 // realised returns of the reference portfolio
 	universe []string  // the assets of the date, in the order of the weights
+	// The date's costs, in seconds: the fits, the portfolios and their
+	// measures, the truth and the losses against it.
+	fitSecs, scoreSecs, truthSecs float64
 }
 
 // estimatorDate is one estimator's measures on one date: forecasts (per
@@ -401,23 +472,97 @@ type estimatorDate struct {
 	sampleMV       float64
 }
 
+// dateInputs is what every estimator of a date is measured on.
+type dateInputs struct {
+	r, k       int // the rebalance row and the test period's length
+	universe   []string
+	cols       []int      // the universe's panel columns
+	test       *mat.Dense // test returns, k×N, missing as zero
+	bench      []float64  // the reference portfolio
+	fundActive []float64  // nil without a fund
+	randLong   [][]float64
+	randDraws  [][]float64 // the long-only draws behind the random active portfolios
+	support    []int       // the tracking portfolio's names
+	// With a truth: the mean true covariance of the test period and what
+	// the losses against it need.
+	target *mat.SymDense
+	truthF *truthFactor
+}
+
 // date fits every estimator on the window ending at row r and measures the
-// forecasts on rows r+1 … r+Step.
+// forecasts on rows r+1 … r+Step, in named steps: fit, the common universe,
+// the inputs of the measures, the truth, then each estimator's scores.
 func (ev *evaluator) date(q, r int) (*dateResult, error) {
 	p, o := ev.p, ev.o
 	asof := p.Date(r)
-	models := make([]*riskmodel.Model, 0, len(o.names))
-	secs := make([]float64, 0, len(o.names))
-	for _, m := range o.Methods {
+	t0 := time.Now()
+	models, secs, err := ev.fit(asof)
+	if err != nil {
+		return nil, err
+	}
+	universe, err := ev.commonUniverse(models, asof)
+	if err != nil {
+		return nil, err
+	}
+	fitSecs := time.Since(t0).Seconds()
+	t1 := time.Now()
+	in := ev.inputs(q, r, universe)
+	res := &dateResult{
+		period:   Period{AsOf: asof, First: p.Date(r + 1), Last: p.Date(r + in.k), Assets: len(universe)},
+		refRet:   portfolioReturns(in.test, in.bench),
+		universe: universe,
+		fitSecs:  fitSecs,
+	}
+	res.period.ReferenceVol = evalStd(res.refRet) * math.Sqrt(p.PeriodsPerYear())
+	var truthSecs float64
+	if o.Truth != nil {
+		t2 := time.Now()
+		oracle := ev.truth(&in)
+		models = append(models, &riskmodel.Model{AsOf: asof, Assets: universe, PeriodsPerYear: p.PeriodsPerYear(), Method: OracleName, Dense: oracle})
+		secs = append(secs, 0)
+		truthSecs += time.Since(t2).Seconds()
+	}
+	for e, m := range models {
+		ed, tsecs := ev.score(&in, m)
+		ed.forecast.FitSeconds = secs[e]
+		truthSecs += tsecs
+		res.est = append(res.est, ed)
+		res.period.Forecasts = append(res.period.Forecasts, ed.forecast)
+	}
+	if o.Truth != nil {
+		t2 := time.Now()
+		if err := ev.sampleLosses(&in, asof, res); err != nil {
+			return nil, err
+		}
+		truthSecs += time.Since(t2).Seconds()
+	}
+	res.truthSecs = truthSecs
+	res.scoreSecs = time.Since(t1).Seconds() - truthSecs
+	return res, nil
+}
+
+// fit builds every estimator on the window ending at asof and returns the
+// models with the seconds of each fit.
+func (ev *evaluator) fit(asof riskmodel.Date) ([]*riskmodel.Model, []float64, error) {
+	models := make([]*riskmodel.Model, 0, len(ev.o.names))
+	secs := make([]float64, 0, len(ev.o.names))
+	for _, m := range ev.o.Methods {
 		t0 := time.Now()
 		b := m.Build
-		model, _, err := riskmodel.Build(p, asof, &b)
+		model, _, err := riskmodel.Build(ev.p, asof, &b)
 		if err != nil {
-			return nil, fmt.Errorf("riskmodel: evaluate %s on %s: %w", m.Name, asof, err)
+			return nil, nil, fmt.Errorf("riskmodel: evaluate %s on %s: %w", m.Name, asof, err)
 		}
 		secs = append(secs, time.Since(t0).Seconds())
 		models = append(models, model)
 	}
+	return models, secs, nil
+}
+
+// commonUniverse returns the assets every model keeps and restricts the
+// models to them, in place; with no model (only the oracle), the assets
+// riskmodel.Build would keep.
+func (ev *evaluator) commonUniverse(models []*riskmodel.Model, asof riskmodel.Date) ([]string, error) {
 	var universe []string
 	if len(models) > 0 {
 		// Estimators that need metadata (exposure, hybrid) may drop assets
@@ -434,12 +579,11 @@ func (ev *evaluator) date(q, r int) (*dateResult, error) {
 			models[k] = restrictModel(m, universe)
 		}
 	} else {
-		// Only the oracle: the assets riskmodel.Build would keep.
-		win, err := p.Window(asof, o.Window)
+		win, err := ev.p.Window(asof, ev.o.Window)
 		if err != nil {
 			return nil, err
 		}
-		minObs := o.MinObs
+		minObs := ev.o.MinObs
 		if minObs == 0 {
 			t, _ := win.Dims()
 			minObs = riskmodel.DefaultMinObs(t)
@@ -447,161 +591,173 @@ func (ev *evaluator) date(q, r int) (*dateResult, error) {
 		win, _ = win.DropSparse(minObs)
 		universe = win.Assets()
 	}
-	n := len(universe)
-	if n == 0 {
+	if len(universe) == 0 {
 		return nil, fmt.Errorf("riskmodel: evaluate: %w: no asset on %s", riskmodel.ErrEmpty, asof)
 	}
-	cols := make([]int, n)
+	return universe, nil
+}
+
+// inputs gathers the test returns, the reference and fund portfolios and
+// the random draws of date q (rebalance row r) over the universe.
+func (ev *evaluator) inputs(q, r int, universe []string) dateInputs {
+	p, o := ev.p, ev.o
+	n := len(universe)
+	in := dateInputs{r: r, k: o.Step, universe: universe, cols: make([]int, n)}
 	for i, a := range universe {
-		cols[i], _ = p.Column(a)
+		in.cols[i], _ = p.Column(a)
 	}
-	// Test returns, missing as zero.
-	k := o.Step
-	test := mat.NewDense(k, n, nil)
-	for d := 0; d < k; d++ {
-		for i, j := range cols {
+	in.test = mat.NewDense(in.k, n, nil)
+	for d := 0; d < in.k; d++ {
+		for i, j := range in.cols {
 			if v := p.At(r+1+d, j); !math.IsNaN(v) {
-				test.Set(d, i, v)
+				in.test.Set(d, i, v)
 			}
 		}
 	}
-	var target *mat.SymDense
-	var targetInvTrace float64
-	if o.Truth != nil {
-		full := o.Truth(nil, r+1)
-		oracle := subSym(full, cols)
-		models = append(models, &riskmodel.Model{AsOf: asof, Assets: universe, PeriodsPerYear: p.PeriodsPerYear(), Method: OracleName, Dense: oracle})
-		secs = append(secs, 0)
-		target = mat.NewSymDense(n, nil)
-		for d := 0; d < k; d++ {
-			if d > 0 {
-				full = o.Truth(full, r+1+d)
-			}
-			s := subSym(full, cols)
-			target.AddSym(target, s)
-		}
-		target.ScaleSym(1/float64(k), target)
-		targetInvTrace = invTrace(target)
-	}
-	bench := ev.weights(o.Benchmark, cols)
-	if bench == nil {
-		bench = make([]float64, n)
-		for i := range bench {
-			bench[i] = 1 / float64(n)
+	in.bench = ev.weights(o.Benchmark, in.cols)
+	if in.bench == nil {
+		in.bench = make([]float64, n)
+		for i := range in.bench {
+			in.bench[i] = 1 / float64(n)
 		}
 	}
-	var fundActive []float64
 	if o.Benchmark != nil && o.Fund != nil {
-		if f := ev.weights(o.Fund, cols); f != nil {
-			fundActive = make([]float64, n)
+		if f := ev.weights(o.Fund, in.cols); f != nil {
+			in.fundActive = make([]float64, n)
 			for i := range f {
-				fundActive[i] = f[i] - bench[i]
+				in.fundActive[i] = f[i] - in.bench[i]
 			}
 		}
 	}
 	rs := rand.New(rand.NewPCG(o.Seed, uint64(q)))
-	randLong := make([][]float64, o.RandomPortfolios)
-	randActive := make([][]float64, o.RandomPortfolios)
-	for j := range randLong {
-		randLong[j] = randomLongOnly(rs, n)
-		randActive[j] = randomActive(rs, bench)
+	in.randLong = make([][]float64, o.RandomPortfolios)
+	in.randDraws = make([][]float64, o.RandomPortfolios)
+	for j := range in.randLong {
+		in.randLong[j] = randomLongOnly(rs, n)
+		in.randDraws[j] = randomLongOnly(rs, n) // randomActive's draw, kept sparse
 	}
-	support := largestNames(bench, o.TrackingNames)
+	in.support = largestNames(in.bench, o.TrackingNames)
+	return in
+}
 
-	res := &dateResult{
-		period:   Period{AsOf: asof, First: p.Date(r + 1), Last: p.Date(r + k), Assets: n},
-		refRet:   portfolioReturns(test, bench),
-		universe: universe,
-	}
-	ann := math.Sqrt(p.PeriodsPerYear())
-	res.period.ReferenceVol = evalStd(res.refRet) * ann
-	var sampleCov *mat.SymDense
-	if target != nil {
-		for k, m := range o.Methods {
-			if m.Build.Method == riskmodel.MethodSample {
-				sampleCov = models[k].Dense
-				break
-			}
+// truth returns the oracle's forecast (the truth of the first test row) and
+// sets the mean truth of the test period and tr(Σ⁻¹) of it in in.
+func (ev *evaluator) truth(in *dateInputs) *mat.SymDense {
+	n := len(in.cols)
+	full := ev.o.Truth(nil, in.r+1)
+	oracle := subSym(full, in.cols)
+	in.target = mat.NewSymDense(n, nil)
+	for d := 0; d < in.k; d++ {
+		if d > 0 {
+			full = ev.o.Truth(full, in.r+1+d)
 		}
-		if sampleCov == nil {
-			b := riskmodel.BuildOptions{Method: riskmodel.MethodSample, Window: o.Window, MinObs: o.MinObs}
-			sm, _, err := riskmodel.Build(p, asof, &b)
-			if err != nil {
-				return nil, fmt.Errorf("riskmodel: evaluate sample (for the PRIAL) on %s: %w", asof, err)
-			}
-			sampleCov = sm.Dense
-		}
+		in.target.AddSym(in.target, subSym(full, in.cols))
 	}
+	in.target.ScaleSym(1/float64(in.k), in.target)
+	in.truthF = newTruthFactor(in.target)
+	return oracle
+}
+
+// score builds the test portfolios from one forecast and measures them on
+// the test period; with a truth, the losses against it too, whose seconds
+// it returns.
+func (ev *evaluator) score(in *dateInputs, m *riskmodel.Model) (estimatorDate, float64) {
+	ann := math.Sqrt(ev.p.PeriodsPerYear())
+	n, k := len(in.cols), in.k
+	op := newCovOp(m.Covariance())
+	ed := estimatorDate{}
 	tmp := make([]float64, n)
-	for e, m := range models {
-		op := newCovOp(m.Covariance())
-		ed := estimatorDate{}
-		ed.forecast.FitSeconds = secs[e]
-		ed.forecast.Reference = math.Sqrt(op.quad(bench, tmp)) * ann
-		vol := func(w []float64) float64 { return math.Sqrt(op.quad(w, tmp)) }
-		measure := func(w []float64) (ret, z []float64, sigma float64) {
-			ret = portfolioReturns(test, w)
-			sigma = vol(w)
-			z = make([]float64, len(ret))
-			for d, v := range ret {
-				z[d] = v / sigma
-			}
-			return ret, z, sigma
+	sb := make([]float64, n) // Σb
+	op.mul(sb, in.bench)
+	ed.forecast.Reference = math.Sqrt(evalDot(in.bench, sb)) * ann
+	measure := func(w []float64, sigma float64) (ret, z []float64) {
+		ret = portfolioReturns(in.test, w)
+		z = make([]float64, len(ret))
+		for d, v := range ret {
+			z[d] = v / sigma
 		}
-		var s float64
-		if w := op.minVariance(); w != nil {
-			ed.gmv, ed.gmvZ, s = measure(w)
-		} else {
-			ed.gmv, ed.gmvZ, s = nanSeries(k), nanSeries(k), math.NaN()
-		}
-		ed.forecast.MinVariance = s * ann
-		ed.ridged = op.ridged
-		w, sr := op.simplexQP(nil, nil)
-		if !sr.Converged {
-			ed.notConverged++
-		}
-		ed.long, ed.longZ, s = measure(w)
-		ed.forecast.LongOnly = s * ann
-		c := make([]float64, n)
-		op.mul(c, bench)
-		w, sr = op.simplexQP(c, support)
-		if !sr.Converged {
-			ed.notConverged++
-		}
-		ed.trkW = slices.Clone(w)
-		for i := range w {
-			w[i] -= bench[i]
-		}
-		ed.trk, ed.trkZ, s = measure(w)
-		ed.forecast.Tracking = s * ann
-		ed.randLong = make([][]float64, len(randLong))
-		ed.randActive = make([][]float64, len(randActive))
-		for j := range randLong {
-			_, ed.randLong[j], _ = measure(randLong[j])
-			_, ed.randActive[j], _ = measure(randActive[j])
-		}
-		if fundActive != nil {
-			_, ed.fundZ, _ = measure(fundActive)
-		}
-		ed.forecast.FrobeniusLoss, ed.forecast.MVLoss = math.NaN(), math.NaN()
-		if target != nil {
-			est, inv := denseAndInverse(m)
-			ed.forecast.FrobeniusLoss = frobeniusLoss(est, target)
-			if inv != nil {
-				ed.forecast.MVLoss = mvLoss(inv, target, targetInvTrace)
-			}
-			if e == 0 {
-				ed.sampleFrob = frobeniusLoss(sampleCov, target)
-				ed.sampleMV = math.NaN()
-				if _, sinv := denseAndInverse(&riskmodel.Model{Dense: sampleCov}); sinv != nil {
-					ed.sampleMV = mvLoss(sinv, target, targetInvTrace)
-				}
-			}
-		}
-		res.est = append(res.est, ed)
-		res.period.Forecasts = append(res.period.Forecasts, ed.forecast)
+		return ret, z
 	}
-	return res, nil
+	vol := func(w []float64) float64 { return math.Sqrt(op.quad(w, tmp)) }
+	s := math.NaN()
+	if w := op.minVariance(); w != nil {
+		s = vol(w)
+		ed.gmv, ed.gmvZ = measure(w, s)
+	} else {
+		ed.gmv, ed.gmvZ = nanSeries(k), nanSeries(k)
+	}
+	ed.forecast.MinVariance = s * ann
+	ed.ridged = op.ridged
+	w, sr := op.simplexQP(nil)
+	if !sr.Converged {
+		ed.notConverged++
+	}
+	s = vol(w)
+	ed.long, ed.longZ = measure(w, s)
+	ed.forecast.LongOnly = s * ann
+	w, sr = op.trackingQP(sb, in.support)
+	if !sr.Converged {
+		ed.notConverged++
+	}
+	ed.trkW = slices.Clone(w)
+	for i := range w {
+		w[i] -= in.bench[i]
+	}
+	s = vol(w)
+	ed.trk, ed.trkZ = measure(w, s)
+	ed.forecast.Tracking = s * ann
+	ed.randLong = make([][]float64, len(in.randLong))
+	ed.randActive = make([][]float64, len(in.randDraws))
+	active := make([]float64, n)
+	for j := range in.randLong {
+		_, ed.randLong[j] = measure(in.randLong[j], vol(in.randLong[j]))
+		// a = d − b with d sparse: Σa = Σd − Σb, a product of O(N·nnz).
+		d := in.randDraws[j]
+		op.mul(tmp, d)
+		var v float64
+		for i := range active {
+			active[i] = d[i] - in.bench[i]
+			v += active[i] * (tmp[i] - sb[i])
+		}
+		_, ed.randActive[j] = measure(active, math.Sqrt(v))
+	}
+	if in.fundActive != nil {
+		_, ed.fundZ = measure(in.fundActive, vol(in.fundActive))
+	}
+	ed.forecast.FrobeniusLoss, ed.forecast.MVLoss = math.NaN(), math.NaN()
+	if in.target == nil {
+		return ed, 0
+	}
+	t0 := time.Now()
+	if m.Factor != nil {
+		ed.forecast.FrobeniusLoss = frobeniusLoss(m.Factor.CovarianceTo(nil), in.target)
+	} else {
+		ed.forecast.FrobeniusLoss = frobeniusLoss(m.Dense, in.target)
+	}
+	ed.forecast.MVLoss = mvLossOf(op, in.truthF)
+	return ed, time.Since(t0).Seconds()
+}
+
+// sampleLosses sets the losses of the sample covariance, the reference of
+// the PRIAL, on res.est[0]: those of the sample estimator when it is one of
+// the estimators, else of a sample covariance fitted for it.
+func (ev *evaluator) sampleLosses(in *dateInputs, asof riskmodel.Date, res *dateResult) error {
+	for e, m := range ev.o.Methods {
+		if m.Build.Method == riskmodel.MethodSample {
+			res.est[0].sampleFrob = res.est[e].forecast.FrobeniusLoss
+			res.est[0].sampleMV = res.est[e].forecast.MVLoss
+			return nil
+		}
+	}
+	b := riskmodel.BuildOptions{Method: riskmodel.MethodSample, Window: ev.o.Window, MinObs: ev.o.MinObs}
+	sm, _, err := riskmodel.Build(ev.p, asof, &b)
+	if err != nil {
+		return fmt.Errorf("riskmodel: evaluate sample (for the PRIAL) on %s: %w", asof, err)
+	}
+	sm = restrictModel(sm, in.universe)
+	res.est[0].sampleFrob = frobeniusLoss(sm.Dense, in.target)
+	res.est[0].sampleMV = mvLossOf(newCovOp(sm.Dense), in.truthF)
+	return nil
 }
 
 // weights aligns holdings with the columns cols of the panel, renormalized to
@@ -687,38 +843,4 @@ func restrictModel(m *riskmodel.Model, assets []string) *riskmodel.Model {
 		r.Dense = subSym(m.Dense, idx)
 	}
 	return &r
-}
-
-// invTrace returns tr(Σ⁻¹), NaN if Σ is not positive definite.
-func invTrace(s *mat.SymDense) float64 {
-	var chol mat.Cholesky
-	if !chol.Factorize(s) {
-		return math.NaN()
-	}
-	var inv mat.SymDense
-	if err := chol.InverseTo(&inv); err != nil {
-		return math.NaN()
-	}
-	var tr float64
-	for i := 0; i < inv.SymmetricDim(); i++ {
-		tr += inv.At(i, i)
-	}
-	return tr
-}
-
-// denseAndInverse returns the model's covariance as a dense matrix and its
-// inverse (nil when it is not positive definite). Cost O(N³).
-func denseAndInverse(m *riskmodel.Model) (*mat.SymDense, *mat.SymDense) {
-	if f := m.Factor; f != nil {
-		return f.CovarianceTo(nil), f.InverseTo(nil)
-	}
-	var chol mat.Cholesky
-	if !chol.Factorize(m.Dense) {
-		return m.Dense, nil
-	}
-	inv := mat.NewSymDense(m.Dense.SymmetricDim(), nil)
-	if err := chol.InverseTo(inv); err != nil {
-		return m.Dense, nil
-	}
-	return m.Dense, inv
 }

@@ -200,7 +200,8 @@ func TestEvaluateDeterministicAndOutputs(t *testing.T) {
 				p.Forecasts[i].FitSeconds = 0
 			}
 		}
-		ev.Elapsed = 0
+		require.Positive(t, ev.Costs.Fits)
+		ev.Elapsed, ev.Costs = 0, Costs{}
 		runs = append(runs, ev)
 	}
 	var a, b bytes.Buffer
@@ -235,6 +236,7 @@ func TestEvaluateDeterministicAndOutputs(t *testing.T) {
 	}
 	require.Contains(t, txt.String(), ev.Recommendation)
 	require.Contains(t, txt.String(), "Caution: "+riskmodel.Caution)
+	require.Contains(t, a.String(), `"cost_seconds": {`)
 
 	var svg bytes.Buffer
 	require.NoError(t, ev.WriteSVG(&svg))

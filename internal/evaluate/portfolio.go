@@ -7,8 +7,8 @@ import (
 
 	"github.com/riskmodel/riskmodel"
 
-	"gonum.org/v1/gonum/blas"
-	"gonum.org/v1/gonum/blas/blas64"
+	"gonum.org/v1/gonum/lapack"
+	"gonum.org/v1/gonum/lapack/lapack64"
 	"gonum.org/v1/gonum/mat"
 
 	"github.com/riskmodel/riskmodel/factor"
@@ -37,29 +37,67 @@ type covOp struct {
 	solve  func(dst, x []float64) // dst = Σ⁻¹x, of the ridged matrix if ridged
 	ridged bool
 	lmax   float64 // largest eigenvalue of Σ (power iteration)
+
+	// Of a dense forecast: the matrix, its rows in full (both triangles,
+	// for products with sparse vectors) and its Cholesky factor when it is
+	// positive definite without the ridge (nil otherwise), which the
+	// minimum-variance loss reuses.
+	sym  *mat.SymDense
+	full []float64
+	chol *dense.Cholesky
+	cond float64 // condition estimate of the unridged matrix; +Inf if not positive definite
+	// Of a factor forecast.
+	fm *factor.Model
 }
+
+// sparseShare is the share of nonzero entries below which a product with a
+// dense forecast adds the rows of the nonzero entries (N·nnz) instead of
+// passing over the whole matrix (N²). Common practice, no source.
+const sparseShare = 0.25
 
 // newCovOp prepares the operations of c, a *factor.Model or a *mat.SymDense.
 // A dense c that is not positive definite, or whose condition number passes
 // gmvMaxCond, is solved with the ridge gmvRidge and flagged.
-// Cost: O(N·K) for a factor model; one Cholesky, O(N³/3), for a dense one.
+// Cost: O(N·K) for a factor model; for a dense one a Cholesky factorization
+// on all cores (dense.Cholesky, N³/3 flops), LAPACK's condition estimate
+// (dpocon, O(N²)) and a full copy of the matrix (N² memory).
 func newCovOp(c riskmodel.Covariance) *covOp {
 	n := c.SymmetricDim()
 	op := &covOp{n: n}
 	switch s := c.(type) {
 	case *factor.Model:
+		op.fm = s
 		op.mul = func(dst, x []float64) { s.MulVecTo(dst, x) }
 		op.solve = func(dst, x []float64) { s.SolveVecTo(dst, x) }
 	case *mat.SymDense:
-		// A full copy: Gemv reads rows with unit stride, about twice as
-		// fast as Symv on one triangle, and the long-only solver calls it
-		// hundreds of times.
-		full := evalFull(s).RawMatrix()
+		op.sym = s
+		op.full = evalFull(s).RawMatrix().Data
+		raw := s.RawSymmetric()
 		op.mul = func(dst, x []float64) {
-			blas64.Gemv(blas.NoTrans, 1, full, blas64.Vector{N: n, Inc: 1, Data: x}, 0, blas64.Vector{N: n, Inc: 1, Data: dst})
+			nnz := 0
+			for _, v := range x {
+				if v != 0 {
+					nnz++
+				}
+			}
+			if float64(nnz) > sparseShare*float64(n) {
+				dense.SymVec(dst, raw, x)
+				return
+			}
+			clear(dst)
+			for j, v := range x {
+				if v != 0 {
+					evalAxpy(v, op.full[j*n:(j+1)*n], dst)
+				}
+			}
 		}
-		var chol mat.Cholesky
-		if !chol.Factorize(s) || chol.Cond() > gmvMaxCond {
+		ch := new(dense.Cholesky)
+		op.cond = math.Inf(1)
+		if ch.Factorize(s) {
+			op.chol = ch
+			op.cond = choleskyCond(ch, s)
+		}
+		if op.cond > gmvMaxCond {
 			var tr float64
 			for i := 0; i < n; i++ {
 				tr += s.At(i, i)
@@ -71,25 +109,134 @@ func newCovOp(c riskmodel.Covariance) *covOp {
 				r.SetSym(i, i, r.At(i, i)+delta)
 			}
 			op.ridged = true
-			if !chol.Factorize(r) {
+			ch = new(dense.Cholesky)
+			if !ch.Factorize(r) {
 				op.solve = nil
 				break
 			}
 		}
-		op.solve = func(dst, x []float64) {
-			v := mat.NewVecDense(n, dst)
-			err := chol.SolveVecTo(v, mat.NewVecDense(n, x))
-			if _, ill := err.(mat.Condition); err != nil && !ill {
-				for i := range dst {
-					dst[i] = math.NaN()
-				}
-			}
-		}
+		op.solve = func(dst, x []float64) { ch.SolveVecTo(dst, x) }
 	default:
 		panic("riskmodel: evaluate: covariance is neither *factor.Model nor *mat.SymDense")
 	}
 	op.lmax = dense.LargestEigenvalue(n, op.mul)
 	return op
+}
+
+// choleskyCond returns an estimate of the 1-norm condition number
+// ‖A‖₁·‖A⁻¹‖₁ of a from its Cholesky factor, as LAPACK's dpocon (and gonum's
+// mat.Cholesky.Cond) computes it: ‖A⁻¹‖₁ by Hager's estimator with Higham's
+// refinements (LAPACK's dlacn2), here with the multi-core solves of
+// dense.Cholesky instead of dpocon's scaled single-core ones (dlatrs). A
+// non-finite estimate (a near-singular a) is +Inf. Cost a few solves, O(N²)
+// each.
+//
+// References: Hager, W. W. (1984), "Condition estimates", SIAM J. Sci.
+// Stat. Comput. 5(2):311–316. Higham, N. J. (1988), "FORTRAN codes for
+// estimating the one-norm of a real or complex matrix, with applications to
+// condition estimation", ACM Trans. Math. Software 14(4):381–396
+// (Algorithm 4.1, which dlacn2 implements).
+func choleskyCond(ch *dense.Cholesky, a *mat.SymDense) float64 {
+	n := a.SymmetricDim()
+	norm := lapack64.Lansy(lapack.MaxColumnSum, a.RawSymmetric(), make([]float64, n))
+	est := invNorm1(n, func(dst, x []float64) { ch.SolveVecTo(dst, x) })
+	c := norm * est
+	if math.IsNaN(c) || math.IsInf(c, 0) {
+		return math.Inf(1)
+	}
+	return c
+}
+
+// invNorm1 estimates ‖B‖₁ of a symmetric B given by its products
+// (dst = B·x), by Higham's Algorithm 4.1 (LAPACK's dlacn2 with at most five
+// iterations and its alternating-sign vector as a safeguard). For a
+// symmetric B, Bᵀx is B·x.
+func invNorm1(n int, mul func(dst, x []float64)) float64 {
+	const itmax = 5
+	x, y := make([]float64, n), make([]float64, n)
+	sign := make([]float64, n)
+	norm1 := func(v []float64) float64 {
+		var s float64
+		for _, e := range v {
+			s += math.Abs(e)
+		}
+		return s
+	}
+	argmax := func(v []float64) int {
+		j := 0
+		for i, e := range v {
+			if math.Abs(e) > math.Abs(v[j]) {
+				j = i
+			}
+		}
+		return j
+	}
+	signOf := func(v float64) float64 {
+		if v >= 0 {
+			return 1
+		}
+		return -1
+	}
+	for i := range x {
+		x[i] = 1 / float64(n)
+	}
+	mul(y, x)
+	if n == 1 {
+		return math.Abs(y[0])
+	}
+	est := norm1(y)
+	for i, v := range y {
+		sign[i] = signOf(v)
+	}
+	mul(x, sign)
+	j := argmax(x)
+	for iter := 2; ; iter++ {
+		clear(x)
+		x[j] = 1
+		mul(y, x)
+		old := est
+		est = norm1(y)
+		same := true
+		for i, v := range y {
+			if signOf(v) != sign[i] {
+				same = false
+				break
+			}
+		}
+		if same || est <= old {
+			break
+		}
+		for i, v := range y {
+			sign[i] = signOf(v)
+		}
+		mul(x, sign)
+		last := j
+		j = argmax(x)
+		if x[last] == math.Abs(x[j]) || iter >= itmax { // as dlacn2: x[last], not |x[last]|
+			break
+		}
+	}
+	// The alternating-sign vector guards against a poor estimate.
+	for i := range x {
+		x[i] = (1 + float64(i)/float64(n-1))
+		if i%2 == 1 {
+			x[i] = -x[i]
+		}
+	}
+	mul(y, x)
+	if alt := 2 * norm1(y) / float64(3*n); alt > est {
+		est = alt
+	}
+	return est
+}
+
+// sub returns the forecast on the assets at positions idx, as a covOp.
+// Cost: that of newCovOp on len(idx) assets.
+func (op *covOp) sub(idx []int) *covOp {
+	if op.fm != nil {
+		return newCovOp(op.fm.Submodel(idx))
+	}
+	return newCovOp(subSym(op.sym, idx))
 }
 
 // quad returns xᵀΣx.
@@ -139,7 +286,7 @@ const (
 
 // simplexQP minimizes the quadratic
 //
-//	f(w) = ½ wᵀΣw − cᵀw   subject to  w ≥ 0,  Σᵢ wᵢ = 1,  wᵢ = 0 off support
+//	f(w) = ½ wᵀΣw − cᵀw   subject to  w ≥ 0,  Σᵢ wᵢ = 1
 //
 // (c nil means 0: the long-only minimum-variance portfolio; c = Σb gives the
 // long-only portfolio of least tracking error against b) by accelerated
@@ -147,11 +294,13 @@ const (
 // the momentum points uphill, projecting onto the simplex by sorting. It stops
 // when the Frank–Wolfe gap
 //
-//	g(w)ᵀw − minᵢ∈support gᵢ,   g = Σw − c,
+//	g(w)ᵀw − minᵢ gᵢ,   g = Σw − c,
 //
 // which bounds f(w) − f* from above, is below simplexTol·wᵀΣw, or after
-// simplexMaxIter steps. support lists the allowed assets (nil: all). Cost:
-// one product with Σ per step.
+// simplexMaxIter steps. The gradient at the extrapolated point
+// y = w + β(w − w_prev) is the same combination of the gradients at w and
+// w_prev (g is affine), so each step costs one product with Σ, at w, and
+// that product is sparse once the iterates are (see covOp.mul).
 //
 // References: Beck, A. & Teboulle, M. (2009), "A fast iterative
 // shrinkage-thresholding algorithm for linear inverse problems", SIAM J.
@@ -161,27 +310,13 @@ const (
 // Singer, Y. & Chandra, T. (2008), "Efficient projections onto the ℓ1-ball
 // for learning in high dimensions", ICML, 272–279 (the sort-based simplex
 // projection).
-func (op *covOp) simplexQP(c []float64, support []int) ([]float64, simplexResult) {
+func (op *covOp) simplexQP(c []float64) ([]float64, simplexResult) {
 	n := op.n
-	if support == nil {
-		support = make([]int, n)
-		for i := range support {
-			support[i] = i
-		}
-	}
-	m := len(support)
 	step := 1 / math.Max(op.lmax, math.SmallestNonzeroFloat64)
 	w := make([]float64, n)
-	for _, i := range support {
-		w[i] = 1 / float64(m)
+	for i := range w {
+		w[i] = 1 / float64(n)
 	}
-	y := slices.Clone(w)
-	prev := make([]float64, n)
-	g := make([]float64, n)
-	z := make([]float64, m)
-	buf := make([]float64, m)
-	theta := 1.0
-	var res simplexResult
 	grad := func(dst, x []float64) {
 		op.mul(dst, x)
 		if c != nil {
@@ -190,21 +325,27 @@ func (op *covOp) simplexQP(c []float64, support []int) ([]float64, simplexResult
 			}
 		}
 	}
+	prev, gprev := make([]float64, n), make([]float64, n)
+	g := make([]float64, n)
+	grad(g, w)
+	y, gy := slices.Clone(w), slices.Clone(g)
+	z := make([]float64, n)
+	buf := make([]float64, n)
+	theta := 1.0
+	var res simplexResult
 	for res.Iterations = 1; res.Iterations <= simplexMaxIter; res.Iterations++ {
-		grad(g, y)
 		copy(prev, w)
-		for k, i := range support {
-			z[k] = y[i] - step*g[i]
+		copy(gprev, g)
+		for i := range z {
+			z[i] = y[i] - step*gy[i]
 		}
 		projectSimplex(z, buf)
-		for k, i := range support {
-			w[i] = z[k]
-		}
+		copy(w, z)
 		// Optimality check at w.
 		grad(g, w)
 		var gw, cw float64
 		gmin := math.Inf(1)
-		for _, i := range support {
+		for i := range w {
 			gw += g[i] * w[i]
 			gmin = math.Min(gmin, g[i])
 			if c != nil {
@@ -221,36 +362,75 @@ func (op *covOp) simplexQP(c []float64, support []int) ([]float64, simplexResult
 		beta := (theta - 1) / next
 		// Restart when the step from prev to w and the momentum disagree.
 		var up float64
-		for _, i := range support {
+		for i := range w {
 			up += (y[i] - w[i]) * (w[i] - prev[i])
 		}
 		if up > 0 {
 			next, beta = 1, 0
 		}
 		theta = next
-		for _, i := range support {
+		for i := range w {
 			y[i] = w[i] + beta*(w[i]-prev[i])
+			gy[i] = g[i] + beta*(g[i]-gprev[i])
 		}
 	}
 	res.Iterations = simplexMaxIter
 	return w, res
 }
 
+// trackingQP returns the long-only portfolio of the assets at positions
+// support (in increasing order) with the least forecast tracking error
+// against b, where sb = Σb: simplexQP on the forecast of those assets alone,
+// whose objective ½ wᵀΣw − (Σb)ᵀw is the tracking error's up to a constant.
+// The weights are over all N assets (0 off support). Cost: newCovOp on the
+// support, and steps of O(m²) for m names.
+func (op *covOp) trackingQP(sb []float64, support []int) ([]float64, simplexResult) {
+	sop := op.sub(support)
+	c := make([]float64, len(support))
+	for k, i := range support {
+		c[k] = sb[i]
+	}
+	ws, res := sop.simplexQP(c)
+	w := make([]float64, op.n)
+	for k, i := range support {
+		w[i] = ws[k]
+	}
+	return w, res
+}
+
 // projectSimplex replaces z by its Euclidean projection onto the simplex
-// {x ≥ 0, Σx = 1}: x = max(z − τ, 0) with τ from the sorted values. buf has
-// the length of z. Cost O(m log m).
+// {x ≥ 0, Σx = 1}: x = max(z − τ, 0), with τ by Michelot's algorithm as
+// Condat (2016) states it: τ = (Σ_{i∈S} zᵢ − 1)/|S| over the candidates S,
+// starting from all, then S = {zᵢ > τ} again until no candidate drops out
+// (τ only grows, and the largest zᵢ always stays). buf has the length of z.
+// Cost O(m) per pass, a few passes; no sort.
+//
+// References: Michelot, C. (1986), "A finite algorithm for finding the
+// projection of a point onto the canonical simplex of Rⁿ", J. Optimization
+// Theory and Applications 50(1):195–200. Condat, L. (2016), "Fast
+// projection onto the simplex and the ℓ1 ball", Mathematical Programming
+// 158:575–585.
 func projectSimplex(z, buf []float64) {
-	copy(buf, z)
-	slices.Sort(buf)
-	var cum float64
-	tau := 0.0
-	for k := len(buf) - 1; k >= 0; k-- {
-		cum += buf[k]
-		t := (cum - 1) / float64(len(buf)-k)
-		if k == 0 || buf[k-1] <= t {
-			tau = t
+	act := append(buf[:0], z...)
+	var sum float64
+	for _, v := range act {
+		sum += v
+	}
+	tau := (sum - 1) / float64(len(act))
+	for {
+		keep := act[:0]
+		sum = 0
+		for _, v := range act {
+			if v > tau {
+				keep = append(keep, v)
+				sum += v
+			}
+		}
+		if len(keep) == len(act) {
 			break
 		}
+		act = keep
+		tau = (sum - 1) / float64(len(act))
 	}
 	for k := range z {
 		z[k] = math.Max(z[k]-tau, 0)
@@ -325,6 +505,14 @@ func evalDot(x, y []float64) float64 {
 		s += v * y[i]
 	}
 	return s
+}
+
+// evalAxpy adds s·x to y.
+func evalAxpy(s float64, x, y []float64) {
+	y = y[:len(x)]
+	for i, v := range x {
+		y[i] += s * v
+	}
 }
 
 func evalSum(x []float64) float64 {

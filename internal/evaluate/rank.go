@@ -25,15 +25,17 @@ const (
 )
 
 // gather pools the dates, in date order, into the scores and ranks them.
-func (ev *evaluator) gather(res []*dateResult) *Result {
-	o := ev.o
-	ann := math.Sqrt(ev.p.PeriodsPerYear())
+func gather(o gatherSpec, res []*dateResult) *Result {
+	ann := math.Sqrt(o.PeriodsPerYear)
 	out := &Result{
-		Step: o.Step, Window: o.Window, PeriodsPerYear: ev.p.PeriodsPerYear(),
+		Step: o.Step, Window: o.Window, PeriodsPerYear: o.PeriodsPerYear,
 		TestDates: len(res) * o.Step,
 	}
 	for _, r := range res {
 		out.Periods = append(out.Periods, r.period)
+		out.Costs.Fits += seconds(r.fitSecs)
+		out.Costs.Scoring += seconds(r.scoreSecs)
+		out.Costs.Truth += seconds(r.truthSecs)
 	}
 	var sampleFrob, sampleMV float64
 	for _, r := range res {
@@ -42,11 +44,8 @@ func (ev *evaluator) gather(res []*dateResult) *Result {
 	}
 	sampleFrob /= float64(len(res))
 	sampleMV /= float64(len(res))
-	for e, name := range o.names {
-		s := Score{Name: name, Method: OracleName}
-		if e < len(o.Methods) {
-			s.Method = o.Methods[e].Build.Method
-		}
+	for e, name := range o.Names {
+		s := Score{Name: name, Method: o.Methods[e]}
 		var gmv, gmvZ, long, longZ, trk, trkZ, fundZ []float64
 		var fGMV, fLong, fTrk, frob, mv, secs float64
 		randLong := make([][]float64, o.RandomPortfolios)
@@ -87,13 +86,13 @@ func (ev *evaluator) gather(res []*dateResult) *Result {
 		s.Tracking = port(trk, trkZ, fTrk)
 		s.RandomLongOnly = biasScore(randLong)
 		s.RandomActive = biasScore(randActive)
-		if o.Benchmark != nil && o.Fund != nil {
+		if o.Fund {
 			b := biasOf(fundZ)
 			s.Fund = &b
 		}
 		s.FrobeniusLoss, s.MVLoss = frob/nd, mv/nd
 		s.FrobeniusPRIAL, s.MVPRIAL = math.NaN(), math.NaN()
-		if o.Truth != nil {
+		if o.Truth {
 			s.FrobeniusPRIAL = prial(sampleFrob, s.FrobeniusLoss)
 			s.MVPRIAL = prial(sampleMV, s.MVLoss)
 		}
@@ -101,7 +100,7 @@ func (ev *evaluator) gather(res []*dateResult) *Result {
 		s.TrackingTurnover = turnover(res, e)
 		out.Scores = append(out.Scores, s)
 	}
-	rank(out, o.Truth != nil, o.RandomPortfolios > 0)
+	rank(out, o.Truth, o.RandomPortfolios > 0)
 	out.Recommendation = recommend(out)
 	return out
 }

@@ -97,6 +97,12 @@ type evaluationJSON struct {
 	Recommendation string           `json:"recommendation"`
 	Estimators     []map[string]any `json:"estimators"`
 	Caution        string           `json:"caution"`
+	// The costs (Result.Costs) in seconds, summed over the dates.
+	Costs struct {
+		Fits    float64 `json:"fits"`
+		Scoring float64 `json:"scoring"`
+		Truth   float64 `json:"truth_losses"`
+	} `json:"cost_seconds"`
 }
 
 // WriteJSON writes the evaluation's settings, recommendation and one object
@@ -107,6 +113,7 @@ func (ev *Result) WriteJSON(w io.Writer) error {
 		Step: ev.Step, Window: ev.Window, RebalanceDates: len(ev.Periods), TestDates: ev.TestDates,
 		Metrics: ev.Metrics, Recommendation: ev.Recommendation, Caution: riskmodel.Caution,
 	}
+	out.Costs.Fits, out.Costs.Scoring, out.Costs.Truth = ev.Costs.Fits.Seconds(), ev.Costs.Scoring.Seconds(), ev.Costs.Truth.Seconds()
 	if len(ev.Periods) > 0 {
 		out.First = ev.Periods[0].AsOf.String()
 		out.Last = ev.Periods[len(ev.Periods)-1].Last.String()

@@ -8,6 +8,7 @@ import (
 	"gonum.org/v1/gonum/mat"
 	"gonum.org/v1/gonum/stat/distuv"
 
+	"github.com/riskmodel/riskmodel/factor"
 	"github.com/riskmodel/riskmodel/internal/dense"
 )
 
@@ -126,39 +127,6 @@ func frobeniusLoss(est *mat.SymDense, truth *mat.SymDense) float64 {
 	return s / float64(n)
 }
 
-// mvLoss returns the minimum-variance loss of Ledoit & Wolf (2017),
-//
-//	L_MV(Σ̂, Σ) = [tr(Σ̂⁻¹ Σ Σ̂⁻¹)/N] / [tr(Σ̂⁻¹)/N]²  −  1 / [tr(Σ⁻¹)/N],
-//
-// the excess true variance of a minimum-variance portfolio built from Σ̂
-// over the one built from Σ, averaged over the linear constraint, so it is
-// zero when Σ̂ is proportional to Σ and positive otherwise. inv is Σ̂⁻¹ and
-// trueInvTrace is tr(Σ⁻¹). Cost O(N³) (one N×N product).
-//
-// References: Ledoit, O. & Wolf, M. (2017), "Nonlinear shrinkage of the
-// covariance matrix for portfolio selection: Markowitz meets Goldilocks",
-// Review of Financial Studies 30(12):4349–4388, Section 3 (the loss; the
-// equation number is from memory, not verified: their Definition 1).
-func mvLoss(inv, truth *mat.SymDense, trueInvTrace float64) float64 {
-	n := truth.SymmetricDim()
-	// Full dense copies, which the kernel reads in place.
-	iv, tv := evalFull(inv), evalFull(truth)
-	m := dense.Mul(nil, tv, iv) // ΣΣ̂⁻¹
-	var num, tr float64
-	for i := 0; i < n; i++ {
-		ir := iv.RawRowView(i)
-		tr += ir[i]
-		// Σ_j (Σ̂⁻¹)_ij (ΣΣ̂⁻¹)_ji summed over i is tr(Σ̂⁻¹ΣΣ̂⁻¹); Σ̂⁻¹ is
-		// symmetric, so (Σ̂⁻¹)_ij = (Σ̂⁻¹)_ji and row i of m pairs with row
-		// i of Σ̂⁻¹ after transposing m: use column i of m.
-		for j, v := range ir {
-			num += v * m.At(j, i)
-		}
-	}
-	nf := float64(n)
-	return (num/nf)/((tr/nf)*(tr/nf)) - 1/(trueInvTrace/nf)
-}
-
 // evalFull copies a symmetric matrix into a general dense one, both
 // triangles filled.
 func evalFull(s *mat.SymDense) *mat.Dense {
@@ -188,4 +156,181 @@ func evalFull(s *mat.SymDense) *mat.Dense {
 // 5.2 (the definition of the PRIAL, section number from memory).
 func prial(lossSample, loss float64) float64 {
 	return 100 * (lossSample - loss) / lossSample
+}
+
+// condTolerance is the condition number above which the minimum-variance
+// loss of a dense forecast is NaN: its inverse has no correct digit left
+// (gonum's mat.ConditionTolerance).
+const condTolerance = 1e16
+
+// truthFactor is what the minimum-variance losses against a truth Σ need,
+// computed once per date: Σ = LLᵀ (Cholesky, L = Uᵀ), L⁻ᵀ = U⁻¹ and
+// tr(Σ⁻¹) = ‖U⁻¹‖²_F. A truth that is not positive definite has L nil and
+// invTrace NaN.
+type truthFactor struct {
+	sigma    *mat.SymDense
+	l, uinv  *mat.Dense
+	invTrace float64
+}
+
+// newTruthFactor factors the truth on all cores: the Cholesky factor
+// (N³/3 flops) and U⁻¹ = Σ⁻¹·Uᵀ by two triangular solves (2N³).
+func newTruthFactor(sigma *mat.SymDense) *truthFactor {
+	tf := &truthFactor{sigma: sigma, invTrace: math.NaN()}
+	var ch dense.Cholesky
+	if !ch.Factorize(sigma) {
+		return tf
+	}
+	n := sigma.SymmetricDim()
+	u := ch.UTo(nil)
+	tf.l = mat.NewDense(n, n, nil)
+	tf.l.Copy(u.T())
+	tf.uinv = ch.SolveTo(nil, tf.l)
+	tf.invTrace = symFrob2(tf.uinv)
+	return tf
+}
+
+// invTrace returns tr(Σ⁻¹), NaN if Σ is not positive definite.
+func invTrace(s *mat.SymDense) float64 { return newTruthFactor(s).invTrace }
+
+// symFrob2 returns ‖a‖²_F.
+func symFrob2(a *mat.Dense) float64 {
+	r := a.RawMatrix()
+	var s float64
+	for i := 0; i < r.Rows; i++ {
+		for _, v := range r.Data[i*r.Stride : i*r.Stride+r.Cols] {
+			s += v * v
+		}
+	}
+	return s
+}
+
+// mvLossOf returns the minimum-variance loss of the forecast behind op
+// against the truth of tf (see mvLoss), NaN when either is not positive
+// definite. A dense forecast reuses op's Cholesky factor: with Σ = LLᵀ and
+// Z = Σ̂⁻¹L (two triangular solves on all cores, 2N³ flops),
+//
+//	tr(Σ̂⁻¹ΣΣ̂⁻¹) = ‖Z‖²_F,   tr(Σ̂⁻¹) = tr(Z·L⁻¹) = ⟨Z, L⁻ᵀ⟩_F.
+//
+// A factor forecast stays in factor form (factorMVTraces), O(N²·K).
+func mvLossOf(op *covOp, tf *truthFactor) float64 {
+	if tf.l == nil {
+		return math.NaN()
+	}
+	n := tf.sigma.SymmetricDim()
+	var tr, num float64
+	switch {
+	case op.fm != nil:
+		tr, num = factorMVTraces(op.fm, tf.sigma)
+	case op.chol != nil && op.cond <= condTolerance:
+		z := op.chol.SolveTo(nil, tf.l)
+		num = symFrob2(z)
+		zr, ur := z.RawMatrix(), tf.uinv.RawMatrix()
+		for i := 0; i < n; i++ {
+			tr += evalDot(zr.Data[i*zr.Stride:i*zr.Stride+n], ur.Data[i*ur.Stride:i*ur.Stride+n])
+		}
+	default:
+		return math.NaN()
+	}
+	nf := float64(n)
+	return (num/nf)/((tr/nf)*(tr/nf)) - 1/(tf.invTrace/nf)
+}
+
+// symInner returns ⟨a, b⟩ = Σᵢⱼ aᵢⱼbᵢⱼ of two symmetric matrices, from their
+// upper triangles.
+func symInner(a, b *mat.SymDense) float64 {
+	n := a.SymmetricDim()
+	ra, rb := a.RawSymmetric(), b.RawSymmetric()
+	var s float64
+	for i := 0; i < n; i++ {
+		x, y := ra.Data[i*ra.Stride:i*ra.Stride+n], rb.Data[i*rb.Stride:i*rb.Stride+n]
+		s += x[i] * y[i]
+		var off float64
+		for j := i + 1; j < n; j++ {
+			off += x[j] * y[j]
+		}
+		s += 2 * off
+	}
+	return s
+}
+
+// factorMVTraces returns tr(Σ̂⁻¹) and tr(Σ̂⁻¹ΣΣ̂⁻¹) for a factor forecast
+// Σ̂ = WWᵀ + D (W = B·L, F = L·Lᵀ) by the Woodbury identity
+//
+//	Σ̂⁻¹ = D⁻¹ − YYᵀ,   Y = D⁻¹W·R⁻¹,   RᵀR = I + WᵀD⁻¹W,
+//
+// so that tr(Σ̂⁻¹) = Σᵢ 1/dᵢ − ‖Y‖²_F and, with Q = ΣY,
+//
+//	tr(Σ̂⁻¹ΣΣ̂⁻¹) = Σᵢ Σᵢᵢ/dᵢ² − 2·tr(YᵀD⁻¹Q) + tr(YᵀQ·YᵀY).
+//
+// Cost O(N²·K) for Q on all cores, O(N·K²) for the rest; no N×N matrix.
+// Reference: Woodbury, M.A. (1950), "Inverting modified matrices",
+// Memorandum Report 42, Statistical Research Group, Princeton University.
+func factorMVTraces(fm *factor.Model, truth *mat.SymDense) (tr, num float64) {
+	n, k := fm.SymmetricDim(), fm.NumFactors()
+	g, s := fm.SqrtTo(nil, nil) // g = LᵀBᵀ (K×N) = Wᵀ, s = √d
+	for i := 0; i < n; i++ {
+		d := s[i] * s[i]
+		tr += 1 / d
+		num += truth.At(i, i) / (d * d)
+	}
+	if k == 0 {
+		return tr, num
+	}
+	// H = D⁻¹W (N×K) and the K×K inner matrix I + WᵀD⁻¹W.
+	h := mat.NewDense(n, k, nil)
+	for i := 0; i < n; i++ {
+		d := s[i] * s[i]
+		for j := 0; j < k; j++ {
+			h.Set(i, j, g.At(j, i)/d)
+		}
+	}
+	inner := mat.NewSymDense(k, nil)
+	for a := 0; a < k; a++ {
+		for b := a; b < k; b++ {
+			var v float64
+			for i := 0; i < n; i++ {
+				v += g.At(a, i) * h.At(i, b)
+			}
+			if a == b {
+				v++
+			}
+			inner.SetSym(a, b, v)
+		}
+	}
+	var ch mat.Cholesky
+	if !ch.Factorize(inner) {
+		return math.NaN(), math.NaN()
+	}
+	var r mat.TriDense
+	ch.UTo(&r)
+	// Y = H·R⁻¹.
+	y := mat.NewDense(n, k, nil)
+	var rinv mat.TriDense
+	if err := rinv.InverseTri(&r); err != nil {
+		return math.NaN(), math.NaN()
+	}
+	y.Mul(h, &rinv)
+	q := dense.Mul(nil, evalFull(truth), y) // ΣY, N×K
+	var yy, yq, ydq mat.Dense
+	yy.Mul(y.T(), y)
+	yq.Mul(y.T(), q)
+	dq := mat.NewDense(n, k, nil)
+	for i := 0; i < n; i++ {
+		d := s[i] * s[i]
+		for j := 0; j < k; j++ {
+			dq.Set(i, j, q.At(i, j)/d)
+		}
+	}
+	ydq.Mul(y.T(), dq)
+	for j := 0; j < k; j++ {
+		tr -= yy.At(j, j)
+		num -= 2 * ydq.At(j, j)
+	}
+	var m mat.Dense
+	m.Mul(&yq, &yy)
+	for j := 0; j < k; j++ {
+		num += m.At(j, j)
+	}
+	return tr, num
 }

@@ -3,11 +3,14 @@ package evaluate
 import (
 	"encoding/json"
 	"math"
+	"math/rand/v2"
 	"os"
 	"path/filepath"
 	"testing"
 
 	"github.com/riskmodel/riskmodel"
+	"github.com/riskmodel/riskmodel/factor"
+	"github.com/riskmodel/riskmodel/internal/dense"
 
 	"github.com/stretchr/testify/require"
 	"gonum.org/v1/gonum/mat"
@@ -99,4 +102,97 @@ func TestEvaluateLosses(t *testing.T) {
 	_, inv := denseAndInverse(&riskmodel.Model{Dense: singular})
 	require.Nil(t, inv)
 	require.True(t, math.IsNaN(invTrace(singular)))
+}
+
+// The reference computations of the minimum-variance loss: the explicit
+// inverse (gonum) and the formula term by term.
+
+// mvLoss returns the minimum-variance loss of Ledoit & Wolf (2017),
+//
+//	L_MV(Σ̂, Σ) = [tr(Σ̂⁻¹ Σ Σ̂⁻¹)/N] / [tr(Σ̂⁻¹)/N]²  −  1 / [tr(Σ⁻¹)/N],
+//
+// the excess true variance of a minimum-variance portfolio built from Σ̂
+// over the one built from Σ, averaged over the linear constraint, so it is
+// zero when Σ̂ is proportional to Σ and positive otherwise. inv is Σ̂⁻¹ and
+// trueInvTrace is tr(Σ⁻¹). Cost O(N³) (one N×N product).
+//
+// References: Ledoit, O. & Wolf, M. (2017), "Nonlinear shrinkage of the
+// covariance matrix for portfolio selection: Markowitz meets Goldilocks",
+// Review of Financial Studies 30(12):4349–4388, Section 3 (the loss; the
+// equation number is from memory, not verified: their Definition 1).
+func mvLoss(inv, truth *mat.SymDense, trueInvTrace float64) float64 {
+	n := truth.SymmetricDim()
+	// Full dense copies, which the kernel reads in place.
+	iv, tv := evalFull(inv), evalFull(truth)
+	m := dense.Mul(nil, tv, iv) // ΣΣ̂⁻¹
+	var num, tr float64
+	for i := 0; i < n; i++ {
+		ir := iv.RawRowView(i)
+		tr += ir[i]
+		// Σ_j (Σ̂⁻¹)_ij (ΣΣ̂⁻¹)_ji summed over i is tr(Σ̂⁻¹ΣΣ̂⁻¹); Σ̂⁻¹ is
+		// symmetric, so (Σ̂⁻¹)_ij = (Σ̂⁻¹)_ji and row i of m pairs with row
+		// i of Σ̂⁻¹ after transposing m: use column i of m.
+		for j, v := range ir {
+			num += v * m.At(j, i)
+		}
+	}
+	nf := float64(n)
+	return (num/nf)/((tr/nf)*(tr/nf)) - 1/(trueInvTrace/nf)
+}
+
+// denseAndInverse returns the model's covariance as a dense matrix and its
+// inverse (nil when it is not positive definite). Cost O(N³).
+func denseAndInverse(m *riskmodel.Model) (*mat.SymDense, *mat.SymDense) {
+	if f := m.Factor; f != nil {
+		return f.CovarianceTo(nil), f.InverseTo(nil)
+	}
+	var chol mat.Cholesky
+	if !chol.Factorize(m.Dense) {
+		return m.Dense, nil
+	}
+	inv := mat.NewSymDense(m.Dense.SymmetricDim(), nil)
+	if err := chol.InverseTo(inv); err != nil {
+		return m.Dense, nil
+	}
+	return m.Dense, inv
+}
+
+// The minimum-variance loss from the scoring's Cholesky factor (dense) and
+// in factor form (Woodbury) equals the reference computation from the
+// explicit inverse to rounding: on a random positive definite matrix, a
+// factor model and its dense form, against a truth that is neither.
+func TestMVLossOfMatchesReference(t *testing.T) {
+	rs := rand.New(rand.NewPCG(11, 4))
+	n, k := 40, 3
+	truth := randomSPD(rs, n, 0.1)
+	tr := invTrace(truth)
+	b := mat.NewDense(n, k, nil)
+	for i := 0; i < n; i++ {
+		for j := 0; j < k; j++ {
+			b.Set(i, j, rs.NormFloat64())
+		}
+	}
+	f := mat.NewSymDense(k, []float64{1, 0.2, 0, 0.2, 0.5, 0.1, 0, 0.1, 0.3})
+	d := make([]float64, n)
+	for i := range d {
+		d[i] = 0.2 + rs.Float64()
+	}
+	fm, err := factor.NewModel(b, f, d, factor.Info{})
+	require.NoError(t, err)
+	for name, m := range map[string]*riskmodel.Model{
+		"dense":           {Dense: randomSPD(rs, n, 0.05)},
+		"factor":          {Factor: fm},
+		"factor as dense": {Dense: fm.CovarianceTo(nil)},
+	} {
+		_, inv := denseAndInverse(m)
+		want := mvLoss(inv, truth, tr)
+		got := mvLossOf(newCovOp(m.Covariance()), newTruthFactor(truth))
+		require.InDelta(t, want, got, 1e-12*math.Abs(want), name)
+		require.Positive(t, got, name)
+	}
+	require.InDelta(t, 0, mvLossOf(newCovOp(truth), newTruthFactor(truth)), 1e-12)
+	// Not positive definite: NaN.
+	singular := mat.NewSymDense(2, []float64{1, 1, 1, 1})
+	require.True(t, math.IsNaN(mvLossOf(newCovOp(singular), newTruthFactor(mat.NewSymDense(2, []float64{1, 0, 0, 1})))))
+	require.True(t, math.IsNaN(mvLossOf(newCovOp(mat.NewSymDense(2, []float64{1, 0, 0, 1})), newTruthFactor(singular))))
 }
