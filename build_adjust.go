@@ -142,7 +142,7 @@ func factorAdjustNotes(info factor.Info, rep *BuildReport) {
 		rep.Notes = append(rep.Notes, fmt.Sprintf("held-out choice of K over the last %d dates: likelihood %d (best %d), minimum variance %d (best %d), Bai–Ng IC_p2 %d",
 			h.Holdout.Dates, h.Holdout.Likelihood, h.Holdout.BestLikelihood, h.Holdout.MinVarianceK, h.Holdout.BestMinVariance, h.BaiNgP2))
 	}
-	if w := info.Weighting; w != nil {
+	if w := info.Weighting; w != nil && len(w.Angles) > 0 {
 		rep.Notes = append(rep.Notes, fmt.Sprintf("factor space from volatility-weighted returns (passes: %d; largest angle moved %.3f rad in the last; weights %.2f to %.2f × the median)",
 			w.Passes, w.Angles[len(w.Angles)-1], w.MinWeight, w.MaxWeight))
 	}

@@ -126,9 +126,13 @@ func TestExactlyLowRank(t *testing.T) {
 			x.Set(d, j, v)
 		}
 	}
-	for _, c := range []Criterion{BaiNgICp2, BaiNgICp1, EigenvalueRatio, HoldoutLikelihood} {
+	for _, c := range []Criterion{BaiNgICp2, BaiNgICp1, EigenvalueRatio, HoldoutLikelihood, HoldoutMinVariance} {
 		s := baseSettings()
 		s.Criterion = c
+		// The holdout criteria with the nightly's corrections: the weighted
+		// pass finds no noise to weight by and leaves the space as it is.
+		s.HoldoutBest = c == HoldoutMinVariance
+		s.Adjust.Weighted, s.Adjust.Dispersion = c == HoldoutMinVariance, c == HoldoutMinVariance
 		m, err := Fit(x, s)
 		require.NoError(t, err, c.String())
 		require.Equal(t, 1, m.NumFactors(), c.String())

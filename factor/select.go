@@ -108,6 +108,13 @@ func (s *Selection) chosen(c Criterion, best bool) int {
 		if s.Holdout == nil {
 			return s.BaiNgP2
 		}
+		h := s.Holdout
+		if c == HoldoutMinVariance && h.flatMinVariance() {
+			// Every k gives the same held-out minimum-variance risk (exactly
+			// low-rank data: identical assets): the score cannot choose, so
+			// the likelihood does.
+			c = HoldoutLikelihood
+		}
 		switch {
 		case c == HoldoutLikelihood && best:
 			return s.Holdout.BestLikelihood
@@ -263,4 +270,17 @@ func argmax(x []float64) int {
 		}
 	}
 	return best
+}
+
+// flatMinVariance reports whether the held-out minimum-variance risks of
+// all k agree to 1e-9 relative, so that they cannot choose a k.
+func (h *Holdout) flatMinVariance() bool {
+	if len(h.MinVariance) == 0 {
+		return false
+	}
+	lo, hi := h.MinVariance[0], h.MinVariance[0]
+	for _, v := range h.MinVariance {
+		lo, hi = math.Min(lo, v), math.Max(hi, v)
+	}
+	return hi-lo <= 1e-9*math.Abs(hi)
 }

@@ -87,6 +87,12 @@ func (d *data) weighted(r resolved, p pcs, k int) (pcs, *Weighting) {
 		// A floor at 1 % of the median volatility keeps an asset the fit
 		// explains exactly (or a constant one) from dominating.
 		med := median(vol)
+		if !(med > 0) {
+			// The fit explains most assets exactly: there is no noise to
+			// weight by, and the factor space stays as it is.
+			rep.Passes = pass
+			break
+		}
 		floor := 0.01 * med
 		for j := range vol {
 			vol[j] = math.Max(vol[j], floor)
@@ -109,7 +115,7 @@ func (d *data) weighted(r resolved, p pcs, k int) (pcs, *Weighting) {
 		next := principalAxes(d.z, b, p.sq)
 		rep.Angles = append(rep.Angles, largestAngle(p.v, next.v))
 		p = next
-		if pass == passes-1 && med > 0 {
+		if pass == passes-1 {
 			rep.MinWeight, rep.MaxWeight = slices.Min(vol)/med, slices.Max(vol)/med
 		}
 	}
