@@ -142,20 +142,7 @@ func TestMinVariancePortfolios(t *testing.T) {
 // portfolios (Woodbury solve against Cholesky).
 func TestMinVarianceFactorMatchesDense(t *testing.T) {
 	rs := rand.New(rand.NewPCG(3, 3))
-	n, k := 30, 3
-	b := mat.NewDense(n, k, nil)
-	for i := 0; i < n; i++ {
-		for j := 0; j < k; j++ {
-			b.Set(i, j, rs.NormFloat64())
-		}
-	}
-	f := mat.NewSymDense(k, []float64{1, 0.2, 0, 0.2, 0.5, 0.1, 0, 0.1, 0.3})
-	d := make([]float64, n)
-	for i := range d {
-		d[i] = 0.2 + rs.Float64()
-	}
-	fm, err := factor.NewModel(b, f, d, factor.Info{})
-	require.NoError(t, err)
+	fm := randomFactorModel(t, rs, 30, 3)
 	fop, dop := newCovOp(fm), newCovOp(fm.CovarianceTo(nil))
 	require.InDeltaSlice(t, dop.minVariance(), fop.minVariance(), 1e-10)
 	wf, _ := fop.simplexQP(nil)
@@ -273,4 +260,24 @@ func TestProjectSimplexMatchesSort(t *testing.T) {
 		require.InDeltaSlice(t, want, z, 1e-12*math.Max(1, math.Abs(tau)), "trial %d", trial)
 		require.InDelta(t, 1, evalSum(z), 1e-12)
 	}
+}
+
+// randomFactorModel draws an N×K factor model with N(0, 1) loadings, a
+// fixed 3×3 factor covariance (K = 3) and specific variances in [0.2, 1.2].
+func randomFactorModel(t *testing.T, rs *rand.Rand, n, k int) *factor.Model {
+	t.Helper()
+	b := mat.NewDense(n, k, nil)
+	for i := 0; i < n; i++ {
+		for j := 0; j < k; j++ {
+			b.Set(i, j, rs.NormFloat64())
+		}
+	}
+	f := mat.NewSymDense(k, []float64{1, 0.2, 0, 0.2, 0.5, 0.1, 0, 0.1, 0.3})
+	d := make([]float64, n)
+	for i := range d {
+		d[i] = 0.2 + rs.Float64()
+	}
+	fm, err := factor.NewModel(b, f, d, factor.Info{})
+	require.NoError(t, err)
+	return fm
 }

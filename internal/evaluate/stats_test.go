@@ -9,7 +9,6 @@ import (
 	"testing"
 
 	"github.com/riskmodel/riskmodel"
-	"github.com/riskmodel/riskmodel/factor"
 	"github.com/riskmodel/riskmodel/internal/dense"
 
 	"github.com/stretchr/testify/require"
@@ -166,19 +165,7 @@ func TestMVLossOfMatchesReference(t *testing.T) {
 	n, k := 40, 3
 	truth := randomSPD(rs, n, 0.1)
 	tr := invTrace(truth)
-	b := mat.NewDense(n, k, nil)
-	for i := 0; i < n; i++ {
-		for j := 0; j < k; j++ {
-			b.Set(i, j, rs.NormFloat64())
-		}
-	}
-	f := mat.NewSymDense(k, []float64{1, 0.2, 0, 0.2, 0.5, 0.1, 0, 0.1, 0.3})
-	d := make([]float64, n)
-	for i := range d {
-		d[i] = 0.2 + rs.Float64()
-	}
-	fm, err := factor.NewModel(b, f, d, factor.Info{})
-	require.NoError(t, err)
+	fm := randomFactorModel(t, rs, n, k)
 	for name, m := range map[string]*riskmodel.Model{
 		"dense":           {Dense: randomSPD(rs, n, 0.05)},
 		"factor":          {Factor: fm},
