@@ -37,15 +37,10 @@ func lowRankEigen(c *mat.SymDense) ([]float64, *mat.Dense, bool) {
 		return nil, nil, false
 	}
 	var se dense.SubspaceEigen
-	if !se.Factorize(av, q) {
+	if !se.Factorize(av, q) || !se.Exact() {
 		return nil, nil, false
 	}
-	vals := se.Values
-	top := math.Max(math.Abs(vals[0]), math.Abs(vals[len(vals)-1]))
-	if !(se.Residual <= 64*float64(n)*eps*top) {
-		return nil, nil, false
-	}
-	return vals, mat.DenseCopyOf(se.Vectors.T()), true
+	return se.Values, mat.DenseCopyOf(se.Vectors.T()), true
 }
 
 // forceFullEigen sends floorEigen to the full eigendecomposition, the

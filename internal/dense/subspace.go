@@ -326,6 +326,18 @@ type SubspaceEigen struct {
 	Residual float64
 }
 
+// Exact reports whether the decomposition is that of A itself to rounding:
+// Residual at most 64·N·ε times the largest |eigenvalue| in the subspace,
+// the acceptance rule of the low-rank repairs in ewma and shrink.
+func (e *SubspaceEigen) Exact() bool {
+	if len(e.Values) == 0 {
+		return false
+	}
+	n, _ := e.Vectors.Dims()
+	top := math.Max(math.Abs(e.Values[0]), math.Abs(e.Values[len(e.Values)-1]))
+	return e.Residual <= 64*float64(n)*0x1p-52*top
+}
+
 // Factorize computes the decomposition of the symmetric a (given as a full
 // N×N matrix, both triangles, as SymView returns) in the span of the
 // orthonormal columns of q and reports whether gonum's eigensolver
