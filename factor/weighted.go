@@ -113,7 +113,8 @@ func (d *data) weighted(r resolved, p pcs, k int) (pcs, *Weighting) {
 		}
 		orthonormalize(b)
 		next := principalAxes(d.z, b, p.sq)
-		rep.Angles = append(rep.Angles, largestAngle(p.v, next.v))
+		ang := principalAngles(p.v, next.v)
+		rep.Angles = append(rep.Angles, ang[len(ang)-1])
 		p = next
 		if pass == passes-1 {
 			rep.MinWeight, rep.MaxWeight = slices.Min(vol)/med, slices.Max(vol)/med
@@ -187,20 +188,6 @@ func principalAxes(z, b *mat.Dense, sq []float64) pcs {
 	}
 	fixSigns(out)
 	return out
-}
-
-// largestAngle returns the largest principal angle between the column
-// spaces of the orthonormal a and b: arccos of the smallest singular value
-// of aᵀb.
-func largestAngle(a, b *mat.Dense) float64 {
-	var m mat.Dense
-	m.Mul(a.T(), b)
-	var svd mat.SVD
-	if !svd.Factorize(&m, mat.SVDNone) {
-		return math.NaN()
-	}
-	v := svd.Values(nil)
-	return math.Acos(math.Min(1, v[len(v)-1]))
 }
 
 func median(x []float64) float64 {
