@@ -334,28 +334,33 @@ type Coverage struct {
 
 // Coverage returns the coverage of every asset, in column order. Cost O(T·N).
 func (p *Panel) Coverage() []Coverage {
-	t, n := p.Dims()
+	_, n := p.Dims()
 	cov := make([]Coverage, n)
-	for j := 0; j < n; j++ {
-		c := Coverage{Asset: p.assets[j]}
-		gap, last := 0, -1
-		for i := 0; i < t; i++ {
-			if math.IsNaN(p.r.At(i, j)) {
-				continue
-			}
-			if c.Count == 0 {
-				c.First = p.dates[i]
-			} else {
-				gap = i - last - 1
-				c.LongestGap = max(c.LongestGap, gap)
-			}
-			c.Count++
-			c.Last = p.dates[i]
-			last = i
-		}
-		cov[j] = c
+	for j := range cov {
+		cov[j] = p.columnCoverage(j)
 	}
 	return cov
+}
+
+// columnCoverage is the coverage of column j.
+func (p *Panel) columnCoverage(j int) Coverage {
+	t, _ := p.Dims()
+	c := Coverage{Asset: p.assets[j]}
+	last := -1
+	for i := 0; i < t; i++ {
+		if math.IsNaN(p.r.At(i, j)) {
+			continue
+		}
+		if c.Count == 0 {
+			c.First = p.dates[i]
+		} else {
+			c.LongestGap = max(c.LongestGap, i-last-1)
+		}
+		c.Count++
+		c.Last = p.dates[i]
+		last = i
+	}
+	return c
 }
 
 // dropSparseAfter drops the assets with fewer than minObs observations in

@@ -2,10 +2,15 @@ package riskmodel
 
 import (
 	"encoding/json"
+	"fmt"
 	"math"
+	"math/rand/v2"
 	"os"
+	"runtime"
+	"slices"
 	"testing"
 
+	"github.com/montanaflynn/stats"
 	"github.com/stretchr/testify/require"
 	"gonum.org/v1/gonum/mat"
 )
@@ -117,4 +122,144 @@ func TestQualityDefaultsAndEdges(t *testing.T) {
 	q = Quality(p, &QualityOptions{StaleRun: 6, ImplausibleLimit: 2})
 	require.Empty(t, q.StaleRuns)
 	require.Empty(t, q.Implausible)
+}
+
+// TestMedianMADMatchesStats checks medianMAD against
+// github.com/montanaflynn/stats v0.14.0's Median and
+// MedianAbsoluteDeviation, bit for bit, on odd and even counts, ties and a
+// single value.
+func TestMedianMADMatchesStats(t *testing.T) {
+	rng := rand.New(rand.NewPCG(3, 5))
+	for _, n := range []int{1, 2, 3, 4, 7, 10, 251, 252, 1000} {
+		for _, ties := range []bool{false, true} {
+			x := make([]float64, n)
+			for i := range x {
+				x[i] = rng.NormFloat64() * 0.02
+				if ties {
+					x[i] = math.Round(x[i]*500) / 500
+				}
+			}
+			orig := slices.Clone(x)
+			med, mad := medianMAD(x, make([]float64, n))
+			wantMed, err := stats.Median(x)
+			require.NoError(t, err)
+			wantMAD, err := stats.MedianAbsoluteDeviation(x)
+			require.NoError(t, err)
+			require.Equal(t, math.Float64bits(wantMed), math.Float64bits(med), "n=%d ties=%v", n, ties)
+			require.Equal(t, math.Float64bits(wantMAD), math.Float64bits(mad), "n=%d ties=%v", n, ties)
+			require.Equal(t, orig, x, "medianMAD must leave x as it is")
+		}
+	}
+}
+
+// TestQualityAcrossBlocks tiles the planted panel of TestQualityAgainstPandas
+// 50 times (300 columns, several blocks of Quality's goroutines) and checks
+// that the report is the planted panel's report repeated in column order,
+// with GOMAXPROCS 1 and 2 giving the same report.
+func TestQualityAcrossBlocks(t *testing.T) {
+	p, err := ReadReturns("testdata/quality/panel.csv", nil)
+	require.NoError(t, err)
+	opts := &QualityOptions{MinObs: 50}
+	one := Quality(p, opts)
+	const copies = 50
+	tt, n := p.Dims()
+	wide := mat.NewDense(tt, n*copies, nil)
+	var names []string
+	rename := map[string][]string{}
+	for k := range copies {
+		wide.Slice(0, tt, k*n, (k+1)*n).(*mat.Dense).Copy(p.Returns())
+		for _, a := range p.Assets() {
+			name := fmt.Sprintf("%s_%02d", a, k)
+			names = append(names, name)
+			rename[a] = append(rename[a], name)
+		}
+	}
+	wp, err := NewPanel(p.Dates(), names, wide, 0)
+	require.NoError(t, err)
+	require.Greater(t, n*copies, 2*qualityBlock)
+
+	prev := runtime.GOMAXPROCS(1)
+	serial := Quality(wp, opts)
+	runtime.GOMAXPROCS(max(2, prev))
+	parallel := Quality(wp, opts)
+	runtime.GOMAXPROCS(prev)
+	require.Equal(t, serial, parallel)
+
+	// The expected report: each list of the planted panel's report, repeated
+	// copy after copy within each block of n columns, in column order.
+	asset := func(a string, k int) string { return rename[a][k] }
+	var want QualityReport = *one
+	want.Assets = n * copies
+	want.Observed *= copies
+	want.Gaps *= copies
+	want.Listings, want.Delistings, want.Dropped = nil, nil, nil
+	want.Implausible, want.Outliers, want.NoSpread, want.StaleRuns = nil, nil, nil, nil
+	for k := range copies {
+		for _, c := range one.Listings {
+			c.Asset = asset(c.Asset, k)
+			want.Listings = append(want.Listings, c)
+		}
+		for _, c := range one.Delistings {
+			c.Asset = asset(c.Asset, k)
+			want.Delistings = append(want.Delistings, c)
+		}
+		for _, c := range one.Dropped {
+			c.Asset = asset(c.Asset, k)
+			want.Dropped = append(want.Dropped, c)
+		}
+		for _, o := range one.Implausible {
+			o.Asset = asset(o.Asset, k)
+			want.Implausible = append(want.Implausible, o)
+		}
+		for _, o := range one.Outliers {
+			o.Asset = asset(o.Asset, k)
+			want.Outliers = append(want.Outliers, o)
+		}
+		for _, a := range one.NoSpread {
+			want.NoSpread = append(want.NoSpread, asset(a, k))
+		}
+		for _, s := range one.StaleRuns {
+			s.Asset = asset(s.Asset, k)
+			want.StaleRuns = append(want.StaleRuns, s)
+		}
+	}
+	require.Equal(t, &want, serial)
+}
+
+// TestSelectKth checks the selection against a sort for every k on inputs
+// that stress a partition: random, few distinct values, sorted, reversed,
+// all equal and organ-pipe.
+func TestSelectKth(t *testing.T) {
+	rng := rand.New(rand.NewPCG(7, 11))
+	shapes := map[string]func(i, n int) float64{
+		"random":   func(int, int) float64 { return rng.NormFloat64() },
+		"few":      func(int, int) float64 { return float64(rng.IntN(3)) },
+		"sorted":   func(i, _ int) float64 { return float64(i) },
+		"reversed": func(i, n int) float64 { return float64(n - i) },
+		"equal":    func(int, int) float64 { return 0.01 },
+		"pipe":     func(i, n int) float64 { return float64(min(i, n-i)) },
+	}
+	for name, f := range shapes {
+		for _, n := range []int{1, 2, 3, 15, 16, 17, 40, 257, 1000} {
+			x := make([]float64, n)
+			for i := range x {
+				x[i] = f(i, n)
+			}
+			sorted := slices.Sorted(slices.Values(x))
+			for _, k := range []int{0, n / 3, n / 2, n - 1} {
+				s := slices.Clone(x)
+				selectKth(s, k)
+				require.Equal(t, sorted[k], s[k], "%s n=%d k=%d", name, n, k)
+				for i := range s {
+					require.True(t, (i < k && s[i] <= s[k]) || (i > k && s[i] >= s[k]) || i == k, "%s n=%d k=%d i=%d", name, n, k, i)
+				}
+				require.ElementsMatch(t, x, s)
+			}
+			med, mad := medianMAD(x, make([]float64, n))
+			wantMed, _ := stats.Median(x)
+			wantMAD, _ := stats.MedianAbsoluteDeviation(x)
+			require.Equal(t, wantMed, med, "%s n=%d", name, n)
+			require.Equal(t, wantMAD, mad, "%s n=%d", name, n)
+		}
+	}
 }
