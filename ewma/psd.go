@@ -76,7 +76,7 @@ var (
 // makePSDFull is makePSD by gonum's eigendecomposition of all of a, without
 // the checks before it.
 func makePSDFull(a *mat.SymDense) *Repair {
-	var es mat.EigenSym
+	var es dense.EigenSym
 	if !es.Factorize(a, true) {
 		// Not reached for finite input; leave the matrix and say so.
 		return &Repair{MinEigenvalue: math.NaN()}

@@ -164,7 +164,7 @@ func EigenAdjust(dst *mat.SymDense, f mat.Symmetric, s EigenAdjustSettings) (*ma
 // an error wrapping ErrNotPSD unless every eigenvalue is positive.
 func eigenDesc(f mat.Symmetric) ([]float64, *mat.Dense, error) {
 	k := f.SymmetricDim()
-	var eig mat.EigenSym
+	var eig dense.EigenSym
 	if !eig.Factorize(f, true) {
 		return nil, nil, fmt.Errorf("%w: eigendecomposition failed", ErrNotPSD)
 	}

@@ -106,7 +106,7 @@ func NewModel(loadings *mat.Dense, factorCov *mat.SymDense, specificVar []float6
 
 // derive computes the square root of F, B·L and the Woodbury inner factor.
 func (m *Model) derive() error {
-	var eig mat.EigenSym
+	var eig dense.EigenSym
 	if !eig.Factorize(m.f, true) {
 		return fmt.Errorf("%w: eigendecomposition failed", ErrNotPSD)
 	}

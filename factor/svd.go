@@ -97,7 +97,7 @@ func gramSVD(a *mat.Dense, r, over, iters int, seed uint64) (pcs, bool) {
 	var vals []float64 // descending
 	var top *mat.Dense // m×r
 	if m <= gramLimit {
-		var eig mat.EigenSym
+		var eig dense.EigenSym
 		if !eig.Factorize(g, true) {
 			return pcs{}, false
 		}
@@ -173,7 +173,7 @@ func subspaceEig(g *mat.SymDense, r, over, iters int, seed uint64) ([]float64, *
 			h.SetSym(i, j, 0.5*(hq.At(i, j)+hq.At(j, i)))
 		}
 	}
-	var eig mat.EigenSym
+	var eig dense.EigenSym
 	if !eig.Factorize(h, true) {
 		return nil, nil, false
 	}

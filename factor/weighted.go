@@ -155,7 +155,7 @@ func principalAxes(z, b *mat.Dense, sq []float64) pcs {
 	ret := dense.Mul(mat.NewDense(t, k, nil), z, b)
 	g := mat.NewSymDense(k, nil)
 	g.SymOuterK(1, ret.T())
-	var es mat.EigenSym
+	var es dense.EigenSym
 	if !es.Factorize(g, true) {
 		panic("factor: eigendecomposition of the factor space failed")
 	}

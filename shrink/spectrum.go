@@ -11,7 +11,7 @@ import (
 // eigen returns the eigenvalues of a in ascending order and the eigenvectors
 // as the rows of an n×n matrix (row k belongs to value k). Cost O(n³).
 func eigen(a mat.Symmetric) ([]float64, *mat.Dense, error) {
-	var e mat.EigenSym
+	var e dense.EigenSym
 	if !e.Factorize(a, true) {
 		return nil, nil, ErrNoEigen
 	}

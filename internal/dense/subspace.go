@@ -365,7 +365,7 @@ func (e *SubspaceEigen) Factorize(a, q *mat.Dense) bool {
 			ms.SetSym(i, j, 0.5*(mm.At(i, j)+mm.At(j, i)))
 		}
 	}
-	var es mat.EigenSym
+	var es EigenSym
 	if !es.Factorize(ms, true) {
 		return false
 	}
