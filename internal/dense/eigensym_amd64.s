@@ -8,6 +8,10 @@
 // the sum, so the results are bit-identical to rotateCols. An identity
 // rotation (c = 1, s = ±0) is skipped, as in gonum's Dlasr.
 
+// The sixteen carried values, Y0–Y3, from and to the row at r.
+#define CARRY_LOAD(r) VMOVUPD (r), Y0; VMOVUPD 32(r), Y1; VMOVUPD 64(r), Y2; VMOVUPD 96(r), Y3
+#define CARRY_STORE(r) VMOVUPD Y0, (r); VMOVUPD Y1, 32(r); VMOVUPD Y2, 64(r); VMOVUPD Y3, 96(r)
+
 // func rotateBackward16AVX2(mm int, c, s, a *float64, lda int)
 // For j = mm−2 down to 0: rows j, j+1 of a (lda float64 apart) ←
 // (s·y + c·x, c·y − s·x) with x = row j and y = row j+1 as rotation j+1
@@ -22,10 +26,7 @@ TEXT ·rotateBackward16AVX2(SB), NOSPLIT, $0-40
 	LEAQ -1(CX), AX
 	IMULQ R8, AX
 	LEAQ (DX)(AX*1), R9 // row mm−1
-	VMOVUPD (R9), Y0
-	VMOVUPD 32(R9), Y1
-	VMOVUPD 64(R9), Y2
-	VMOVUPD 96(R9), Y3
+	CARRY_LOAD(R9)
 	LEAQ -2(CX), AX // j
 	MOVQ $0x3FF0000000000000, R14
 
@@ -41,14 +42,8 @@ bloop:
 	JNE  brotate
 	TESTQ R12, R12
 	JNZ  brotate
-	VMOVUPD Y0, (R9)
-	VMOVUPD Y1, 32(R9)
-	VMOVUPD Y2, 64(R9)
-	VMOVUPD Y3, 96(R9)
-	VMOVUPD (R13), Y0
-	VMOVUPD 32(R13), Y1
-	VMOVUPD 64(R13), Y2
-	VMOVUPD 96(R13), Y3
+	CARRY_STORE(R9)
+	CARRY_LOAD(R13)
 	JMP  bnext
 
 brotate:
@@ -93,10 +88,7 @@ bnext:
 	JMP  bloop
 
 bdone:
-	VMOVUPD Y0, (R9)
-	VMOVUPD Y1, 32(R9)
-	VMOVUPD Y2, 64(R9)
-	VMOVUPD Y3, 96(R9)
+	CARRY_STORE(R9)
 	VZEROUPPER
 	RET
 
@@ -111,10 +103,7 @@ TEXT ·rotateForward16AVX2(SB), NOSPLIT, $0-40
 	MOVQ lda+32(FP), R8
 	SHLQ $3, R8
 	MOVQ DX, R9 // row j
-	VMOVUPD (R9), Y0
-	VMOVUPD 32(R9), Y1
-	VMOVUPD 64(R9), Y2
-	VMOVUPD 96(R9), Y3
+	CARRY_LOAD(R9)
 	XORQ AX, AX
 	DECQ CX // mm−1 rotations
 	MOVQ $0x3FF0000000000000, R14
@@ -130,14 +119,8 @@ floop:
 	JNE  frotate
 	TESTQ R12, R12
 	JNZ  frotate
-	VMOVUPD Y0, (R9)
-	VMOVUPD Y1, 32(R9)
-	VMOVUPD Y2, 64(R9)
-	VMOVUPD Y3, 96(R9)
-	VMOVUPD (R13), Y0
-	VMOVUPD 32(R13), Y1
-	VMOVUPD 64(R13), Y2
-	VMOVUPD 96(R13), Y3
+	CARRY_STORE(R9)
+	CARRY_LOAD(R13)
 	JMP  fnext
 
 frotate:
@@ -182,9 +165,6 @@ fnext:
 	JMP  floop
 
 fdone:
-	VMOVUPD Y0, (R9)
-	VMOVUPD Y1, 32(R9)
-	VMOVUPD Y2, 64(R9)
-	VMOVUPD Y3, 96(R9)
+	CARRY_STORE(R9)
 	VZEROUPPER
 	RET
