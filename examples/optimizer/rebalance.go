@@ -76,13 +76,14 @@ type mulVec func(dst, x []float64) []float64
 
 // rebalance minimises (w − b)ᵀΣ(w − b) over the capped simplex from the
 // start w0 by projected gradient with step 1/L, L = 2·lambdaMax. It returns
-// the weights, the number of iterations and the per-period tracking error
-// at each iteration (the first is the projected start's).
-func rebalance(mul mulVec, b, w0, caps []float64, lambdaMax float64, maxIter int, tol float64) ([]float64, []float64, error) {
+// the weights, the per-period tracking error at each accepted step (the
+// first is the projected start's) and whether the weights settled (no
+// weight moved more than tol in the last step) within maxIter iterations.
+func rebalance(mul mulVec, b, w0, caps []float64, lambdaMax float64, maxIter int, tol float64) ([]float64, []float64, bool, error) {
 	n := len(b)
 	w, err := project(nil, w0, caps)
 	if err != nil {
-		return nil, nil, err
+		return nil, nil, false, err
 	}
 	a := make([]float64, n)
 	g := make([]float64, n)
@@ -107,7 +108,7 @@ func rebalance(mul mulVec, b, w0, caps []float64, lambdaMax float64, maxIter int
 			v[i] = w[i] - step*2*g[i]
 		}
 		if _, err := project(next, v, caps); err != nil {
-			return nil, nil, err
+			return nil, nil, false, err
 		}
 		if f := te(next); f > path[len(path)-1]*(1+1e-12) {
 			// λ_max was underestimated: halve the step and retry from w.
@@ -123,10 +124,10 @@ func rebalance(mul mulVec, b, w0, caps []float64, lambdaMax float64, maxIter int
 		w, next = next, w
 		path = append(path, te(w))
 		if moved < tol {
-			break
+			return w, path, true, nil
 		}
 	}
-	return w, path, nil
+	return w, path, false, nil
 }
 
 // largestEigenvalue estimates λ_max of Σ by the power method from a fixed

@@ -152,8 +152,9 @@ func TestRebalanceDiagonalKnownSolution(t *testing.T) {
 	want, _ := kkt((lo + hi) / 2)
 
 	start := []float64{0, 0, 0.5, 0.5, 0, 0}
-	w, path, err := rebalance(diagonal(d), b, start, c, largestEigenvalue(diagonal(d), 6), 100000, 1e-13)
+	w, path, settled, err := rebalance(diagonal(d), b, start, c, largestEigenvalue(diagonal(d), 6), 100000, 1e-13)
 	require.NoError(t, err)
+	require.True(t, settled)
 	require.InDeltaSlice(t, want, w, 1e-8)
 	for k := 1; k < len(path); k++ {
 		require.LessOrEqual(t, path[k], path[k-1]*(1+1e-12), "step %d raised the tracking error", k)
@@ -166,10 +167,17 @@ func TestRebalanceReachesTheBenchmark(t *testing.T) {
 	// itself is feasible and has zero tracking error.
 	d := []float64{1e-4, 2e-4, 3e-4, 4e-4}
 	b := []float64{0.1, 0.2, 0.3, 0.4}
-	w, path, err := rebalance(diagonal(d), b, []float64{1, 0, 0, 0}, caps(4, 1), largestEigenvalue(diagonal(d), 4), 100000, 1e-14)
+	w, path, settled, err := rebalance(diagonal(d), b, []float64{1, 0, 0, 0}, caps(4, 1), largestEigenvalue(diagonal(d), 4), 100000, 1e-14)
 	require.NoError(t, err)
+	require.True(t, settled)
 	require.InDeltaSlice(t, b, w, 1e-9)
 	require.Less(t, path[len(path)-1], 1e-9)
+
+	// Ten iterations are not enough to settle: the result says so.
+	_, short, settled, err := rebalance(diagonal(d), b, []float64{1, 0, 0, 0}, caps(4, 1), largestEigenvalue(diagonal(d), 4), 10, 1e-14)
+	require.NoError(t, err)
+	require.False(t, settled)
+	require.LessOrEqual(t, len(short), 11)
 }
 
 func TestLargestEigenvalue(t *testing.T) {

@@ -191,7 +191,7 @@ func optimize(cfg config, stdout io.Writer) error {
 	}
 	mul := func(dst, x []float64) []float64 { return an.MulVecTo(dst, x) }
 	lambda := largestEigenvalue(mul, len(pr.assets))
-	w, path, err := rebalance(mul, pr.bench, pr.start, pr.caps, lambda, cfg.iterations, cfg.tol)
+	w, path, settled, err := rebalance(mul, pr.bench, pr.start, pr.caps, lambda, cfg.iterations, cfg.tol)
 	if err != nil {
 		return badInput{err}
 	}
@@ -204,7 +204,7 @@ func optimize(cfg config, stdout io.Writer) error {
 	if err := export(cfg.export, m, cov, pr, w); err != nil {
 		return err
 	}
-	printResult(stdout, cfg, m, pr, w, path, [3]float64{own, before, after}, check, an.Factored())
+	printResult(stdout, cfg, m, pr, w, path, settled, [3]float64{own, before, after}, check, an.Factored())
 	return nil
 }
 
@@ -346,7 +346,7 @@ func loadModel(dir, demoReturns, demoAssets string) (*riskmodel.Model, error) {
 
 // printResult prints the rebalance; tes holds the fund's own tracking
 // error, the projected start's and the optimised portfolio's, annualised.
-func printResult(w io.Writer, cfg config, m *riskmodel.Model, pr *problem, wt, path []float64, tes [3]float64, check te.BandCheck, factored bool) {
+func printResult(w io.Writer, cfg config, m *riskmodel.Model, pr *problem, wt, path []float64, settled bool, tes [3]float64, check te.BandCheck, factored bool) {
 	form := "dense"
 	if factored {
 		form = fmt.Sprintf("factor form, K = %d", m.Factor.NumFactors())
@@ -375,7 +375,11 @@ func printResult(w io.Writer, cfg config, m *riskmodel.Model, pr *problem, wt, p
 	}
 	fmt.Fprintln(w)
 	fmt.Fprintf(w, "  tracking error  fund %.4f %% a year as held; %.4f %% once projected onto the constraints\n", 100*tes[0], 100*tes[1])
-	fmt.Fprintf(w, "  optimised       %.4f %% a year in %d projected-gradient steps\n", 100*tes[2], len(path)-1)
+	fmt.Fprintf(w, "  optimised       %.4f %% a year in %d projected-gradient steps", 100*tes[2], len(path)-1)
+	if !settled {
+		fmt.Fprintf(w, ", stopped by -iterations %d before no weight moved more than -tol %g", cfg.iterations, cfg.tol)
+	}
+	fmt.Fprintln(w)
 	fmt.Fprintf(w, "  holdings        %d names, %d at the maximum weight\n", held, capped)
 	upper := "no ceiling"
 	if cfg.band.Upper > 0 {
