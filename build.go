@@ -127,13 +127,17 @@ type ShrinkOptions struct {
 type BuildReport struct {
 	Method     string
 	AsOf       Date
-	Start, End Date       // first and last date of the window
-	Dates      int        // dates in the window
-	Assets     int        // assets in the model
-	MinObs     int        // the fewest observations an asset needed to be kept
-	Dropped    []Coverage // assets dropped for too few observations, with their coverage
-	Missing    int        // missing cells of the window's returns for the kept assets
-	Imputed    int        // missing cells filled with the asset's window mean (shrinkage methods)
+	Start, End Date // first and last date of the window
+	Dates      int  // dates in the window
+	Assets     int  // assets in the model
+	MinObs     int  // the fewest observations an asset needed to be kept
+	// Dropped lists the assets dropped for fewer than MinObs observations
+	// and then, for the pairwise sample and ewma methods, those dropped for
+	// sharing fewer than 2 dates with another kept asset, with their
+	// coverage; the notes give the count of each.
+	Dropped []Coverage
+	Missing int // missing cells of the window's returns for the kept assets
+	Imputed int // missing cells filled with the asset's window mean (shrinkage methods)
 	// Unclassified lists assets the exposure and hybrid methods dropped for
 	// a missing sector or market cap.
 	Unclassified []string
@@ -175,6 +179,7 @@ func Build(p *Panel, asof Date, opts *BuildOptions) (*Model, *BuildReport, error
 		minObs = DefaultMinObs(len(win.dates))
 	}
 	win, dropped := win.DropSparse(minObs)
+	unpaired := 0 // the last entries of dropped, from dropUnpaired
 	var unclassified []string
 	if o.Method == MethodExposure || o.Method == MethodHybrid {
 		win, unclassified = keepClassified(win, o)
@@ -193,6 +198,14 @@ func Build(p *Panel, asof Date, opts *BuildOptions) (*Model, *BuildReport, error
 		win, late = win.dropSparseAfter(look, 2)
 		dropped = append(dropped, late...)
 	}
+	if o.Method == MethodSample || o.Method == MethodEWMA {
+		// Their entries are pairwise over missing data: each pair of kept
+		// assets must share two dates.
+		var apart []Coverage
+		win, apart = win.dropUnpaired(2)
+		dropped = append(dropped, apart...)
+		unpaired = len(apart)
+	}
 	t, n := win.Dims()
 	if t < 2 || n < 1 {
 		return nil, nil, fmt.Errorf("riskmodel: build: %w: %d dates and %d assets with at least %d observations up to %s",
@@ -202,8 +215,12 @@ func Build(p *Panel, asof Date, opts *BuildOptions) (*Model, *BuildReport, error
 		Method: o.Method, AsOf: asof, Start: win.dates[0], End: win.dates[t-1],
 		Dates: t, Assets: n, MinObs: minObs, Dropped: dropped, Missing: countNaN(win.r),
 	}
-	if len(dropped) > 0 {
-		rep.Notes = append(rep.Notes, fmt.Sprintf("%d assets dropped for fewer than %d observations in the window", len(dropped), minObs))
+	if sparse := len(dropped) - unpaired; sparse > 0 {
+		rep.Notes = append(rep.Notes, fmt.Sprintf("%d assets dropped for fewer than %d observations in the window", sparse, minObs))
+	}
+	if unpaired > 0 {
+		rep.Notes = append(rep.Notes, fmt.Sprintf("%d assets dropped for sharing fewer than 2 dates with another asset in the window (each entry of the pairwise %s estimate needs 2), first %s",
+			unpaired, o.Method, dropped[len(dropped)-unpaired].Asset))
 	}
 	if len(unclassified) > 0 {
 		rep.Unclassified = unclassified

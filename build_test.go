@@ -178,3 +178,53 @@ func TestBiasStatisticOfTheTrueCovariance(t *testing.T) {
 	require.NoError(t, err)
 	require.InDelta(t, b.Value/2, b2.Value, 1e-12)
 }
+
+// TestBuildPairwiseDropsAssetsThatShareTooFewDates: in a 250-date window an
+// asset delisted after 126 dates and one listed for the last 125 each pass
+// MinObs (125) but share one date, too few for a pairwise sample or ewma
+// entry. Build drops the one with fewer observations, says so, and the
+// model is the one built without that asset.
+func TestBuildPairwiseDropsAssetsThatShareTooFewDates(t *testing.T) {
+	market, err := demo.Generate(&demo.Config{Seed: 4, Assets: 30, Sectors: 3, Dates: 300, Stationary: true})
+	require.NoError(t, err)
+	p := market.Panel
+	tt, _ := p.Dims()
+	asof := p.Date(tt - 1)
+	x := p.ReturnsTo(nil)
+	start := tt - 250
+	for i := start + 126; i < tt; i++ {
+		x.Set(i, 0, math.NaN()) // delisted after 126 dates of the window
+	}
+	for i := 0; i < tt-125; i++ {
+		x.Set(i, 1, math.NaN()) // listed for the last 125
+	}
+	q, err := riskmodel.NewPanel(p.Dates(), p.Assets(), x, 0)
+	require.NoError(t, err)
+	var keep []int
+	for j := range p.Assets() {
+		if j != 1 {
+			keep = append(keep, j)
+		}
+	}
+	without := q.Select(keep)
+	for _, method := range []string{riskmodel.MethodSample, riskmodel.MethodEWMA} {
+		opts := &riskmodel.BuildOptions{Method: method, Window: 250}
+		m, rep, err := riskmodel.Build(q, asof, opts)
+		require.NoError(t, err, method)
+		require.Len(t, rep.Dropped, 1, method)
+		require.Equal(t, p.Asset(1), rep.Dropped[0].Asset)
+		require.Equal(t, 125, rep.Dropped[0].Count)
+		require.NotContains(t, m.Assets, p.Asset(1))
+		require.Contains(t, m.Notes[0], "1 assets dropped for sharing fewer than 2 dates with another asset")
+
+		ref, _, err := riskmodel.Build(without, asof, opts)
+		require.NoError(t, err, method)
+		require.Equal(t, ref.Assets, m.Assets)
+		require.True(t, mat.Equal(ref.Dense, m.Dense), method)
+	}
+	// Methods that are not pairwise keep both assets.
+	m, rep, err := riskmodel.Build(q, asof, &riskmodel.BuildOptions{Method: riskmodel.MethodLedoitWolf, Window: 250})
+	require.NoError(t, err)
+	require.Empty(t, rep.Dropped)
+	require.Contains(t, m.Assets, p.Asset(1))
+}
