@@ -2,11 +2,11 @@ package shrink
 
 import (
 	"math"
-	"runtime"
-	"sync"
 
 	"gonum.org/v1/gonum/blas/blas64"
 	"gonum.org/v1/gonum/mat"
+
+	"github.com/riskmodel/riskmodel/internal/dense"
 )
 
 // sample is validated, centred data: y = x − m row by row, with the
@@ -143,32 +143,11 @@ func copyChecked(dst blas64.General, x mat.Matrix) error {
 const colChunk = 512
 
 // forColumnChunks calls f(c0, c1) for the chunks [c0, c1) of n columns on
-// up to GOMAXPROCS goroutines; f must treat each column by itself.
+// all cores (dense.Parallel); f must treat each column by itself.
 func forColumnChunks(n int, f func(c0, c1 int)) {
-	chunks := (n + colChunk - 1) / colChunk
-	workers := min(chunks, runtime.GOMAXPROCS(0))
-	if workers <= 1 {
-		for c := 0; c < chunks; c++ {
-			f(c*colChunk, min(n, (c+1)*colChunk))
-		}
-		return
-	}
-	var wg sync.WaitGroup
-	next := make(chan int, chunks)
-	for c := 0; c < chunks; c++ {
-		next <- c
-	}
-	close(next)
-	for w := 0; w < workers; w++ {
-		wg.Add(1)
-		go func() {
-			defer wg.Done()
-			for c := range next {
-				f(c*colChunk, min(n, (c+1)*colChunk))
-			}
-		}()
-	}
-	wg.Wait()
+	dense.Parallel((n+colChunk-1)/colChunk, func(c int) {
+		f(c*colChunk, min(n, (c+1)*colChunk))
+	})
 }
 
 // normWeights checks w and returns w/Σw, or nil for nil w.
