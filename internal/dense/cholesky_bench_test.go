@@ -68,3 +68,49 @@ func BenchmarkCholesky(b *testing.B) {
 		})
 	}
 }
+
+// BenchmarkInverse compares Cholesky.InverseTo (2N³/3 flops) with
+// SolveTo of the identity (2N³) and gonum's single-core
+// mat.Cholesky.InverseTo, from one factorization.
+func BenchmarkInverse(b *testing.B) {
+	for _, n := range []int{1000, 3000} {
+		a := benchSPD(n)
+		var c Cholesky
+		if !c.Factorize(a) {
+			b.Fatal("not positive definite")
+		}
+		b.Run(fmt.Sprintf("N=%d/inverse", n), func(b *testing.B) {
+			b.ReportAllocs()
+			dst := mat.NewSymDense(n, nil)
+			for b.Loop() {
+				c.InverseTo(dst)
+			}
+			reportFlops(b, 2*float64(n)*float64(n)*float64(n)/3)
+		})
+		b.Run(fmt.Sprintf("N=%d/solve-identity", n), func(b *testing.B) {
+			b.ReportAllocs()
+			id := mat.NewDiagDense(n, nil)
+			for i := 0; i < n; i++ {
+				id.SetDiag(i, 1)
+			}
+			dst := mat.NewDense(n, n, nil)
+			for b.Loop() {
+				c.SolveTo(dst, id)
+			}
+		})
+		if n > 1000 {
+			continue // gonum's single core takes minutes
+		}
+		var g mat.Cholesky
+		g.Factorize(a)
+		b.Run(fmt.Sprintf("N=%d/gonum", n), func(b *testing.B) {
+			b.ReportAllocs()
+			var dst mat.SymDense
+			for b.Loop() {
+				if err := g.InverseTo(&dst); err != nil {
+					b.Fatal(err)
+				}
+			}
+		})
+	}
+}
