@@ -12,8 +12,6 @@ import (
 	"strings"
 	"time"
 
-	"gonum.org/v1/gonum/mat"
-
 	"github.com/riskmodel/riskmodel/internal/demo"
 	"github.com/riskmodel/riskmodel/internal/evaluate"
 	"github.com/riskmodel/riskmodel/internal/sysmem"
@@ -63,14 +61,14 @@ func runEvaluation(cfg config, stdout, stderr io.Writer) error {
 
 // readInputs reads the returns, or simulates them with -sim; the truth is
 // the simulation's (nil for files).
-func readInputs(cfg config) (*riskmodel.Panel, func(*mat.SymDense, int) *mat.SymDense, error) {
+func readInputs(cfg config) (*riskmodel.Panel, *evaluate.Truth, error) {
 	if cfg.sim != "" {
 		c, _ := simConfig(cfg.sim)
 		d, err := demo.Generate(&c)
 		if err != nil {
 			return nil, nil, badInput{err}
 		}
-		return d.Panel, d.TrueCovarianceTo, nil
+		return d.Panel, evaluate.TruthOf(d), nil
 	}
 	panel, err := riskmodel.ReadReturns(cfg.returns, nil)
 	if err != nil {
@@ -81,7 +79,7 @@ func readInputs(cfg config) (*riskmodel.Panel, func(*mat.SymDense, int) *mat.Sym
 
 // evaluationOptions turns the flags into the evaluation's options: the
 // estimators with their metadata, the holdings and the truth.
-func evaluationOptions(cfg config, panel *riskmodel.Panel, simTruth func(*mat.SymDense, int) *mat.SymDense, stderr io.Writer) (*evaluate.Options, error) {
+func evaluationOptions(cfg config, panel *riskmodel.Panel, simTruth *evaluate.Truth, stderr io.Writer) (*evaluate.Options, error) {
 	opts := &evaluate.Options{
 		Step: cfg.step, Window: cfg.window, RandomPortfolios: cfg.portfolios,
 		TrackingNames: cfg.tracking, Seed: cfg.seed, Workers: cfg.workers,
@@ -130,7 +128,7 @@ func evaluationOptions(cfg config, panel *riskmodel.Panel, simTruth func(*mat.Sy
 			return nil, err
 		}
 		if samePanel(d.Panel, panel) {
-			opts.Truth = d.TrueCovarianceTo
+			opts.Truth = evaluate.TruthOf(d)
 		} else {
 			fmt.Fprintln(stderr, "evaluate: the demo files differ from the demo generator; no truth")
 		}

@@ -33,7 +33,7 @@ func BenchmarkEvaluateDemo(b *testing.B) {
 				b.ReportAllocs()
 				opts := &Options{Methods: sets[set], Benchmark: d.Benchmark, Fund: d.Fund}
 				if set == "all" {
-					opts.Truth = d.TrueCovarianceTo
+					opts.Truth = TruthOf(d)
 				}
 				for b.Loop() {
 					if _, err := Run(p, opts); err != nil {
@@ -56,7 +56,7 @@ func BenchmarkDate(b *testing.B) {
 		if err != nil {
 			b.Fatal(err)
 		}
-		opts := &Options{Window: 504, Step: 21, Truth: d.TrueCovarianceTo, Benchmark: d.Benchmark}
+		opts := &Options{Window: 504, Step: 21, Truth: TruthOf(d), Benchmark: d.Benchmark}
 		o, err := resolve(d.Panel, opts)
 		if err != nil {
 			b.Fatal(err)

@@ -11,6 +11,7 @@ import (
 	"time"
 
 	"github.com/riskmodel/riskmodel"
+	"github.com/riskmodel/riskmodel/factor"
 
 	"gonum.org/v1/gonum/mat"
 )
@@ -28,6 +29,29 @@ const (
 
 // ErrInput reports options or data that Evaluate cannot work with.
 var ErrInput = errors.New("cannot evaluate")
+
+// Truth is a true covariance in factor form over all the columns of the
+// panel, Σ_row = B·F_row·Bᵀ + diag(d_row), with exposures B that do not
+// change from row to row: the form of the demo market's truth (ExposuresTo,
+// FactorCovarianceTo, SpecificVariancesTo). The functions must be safe for
+// concurrent use, and every d_row positive. The mean truth of a test period
+// is then B·F̄·Bᵀ + diag(d̄), a factor model again, which keeps the losses
+// against it free of N×N factorizations of the truth.
+type Truth struct {
+	Exposures         *mat.Dense // N×K, the panel's columns in order
+	FactorCovariance  func(dst *mat.SymDense, row int) *mat.SymDense
+	SpecificVariances func(dst []float64, row int) []float64
+}
+
+// TruthOf returns the Truth of a market that knows its factor structure, as
+// the demo and simulated markets do.
+func TruthOf(m interface {
+	ExposuresTo(dst *mat.Dense) *mat.Dense
+	FactorCovarianceTo(dst *mat.SymDense, row int) *mat.SymDense
+	SpecificVariancesTo(dst []float64, row int) []float64
+}) *Truth {
+	return &Truth{Exposures: m.ExposuresTo(nil), FactorCovariance: m.FactorCovarianceTo, SpecificVariances: m.SpecificVariancesTo}
+}
 
 // Estimator is one estimator to evaluate: a method name of riskmodel.Build with
 // its settings, under a label.
@@ -60,13 +84,12 @@ type Options struct {
 	// half the window, as riskmodel.Build.
 	MinObs int
 
-	// Truth, if set, gives the true covariance of the returns of a row of
-	// the panel over all its columns, as Demo.TrueCovarianceTo does (it must
-	// be safe for concurrent use). It adds the estimator OracleName, which
-	// forecasts with the truth of the first test row, and the losses
-	// against the truth of each test period (the mean of the rows' true
-	// covariances).
-	Truth func(dst *mat.SymDense, row int) *mat.SymDense
+	// Truth, if set, gives the true covariance of the returns of each row
+	// of the panel in factor form, as a simulated market knows it. It adds
+	// the estimator OracleName, which forecasts with the truth of the first
+	// test row, and the losses against the truth of each test period (the
+	// mean of the rows' true covariances).
+	Truth *Truth
 
 	// Benchmark is the benchmark of the active portfolios, renormalized over
 	// the assets of each date; nil means equal weights.
@@ -228,15 +251,19 @@ type PeriodForecast struct {
 //
 // Errors: ErrInput for options that cannot be met (a Step below 2, a
 // Window below 2, no rebalance date with a full test period, an unknown
-// benchmark asset), and any error of riskmodel.Build, naming the date and estimator.
+// benchmark asset), any error of riskmodel.Build, naming the date and
+// estimator, and a Truth whose covariance of a row is not a valid factor
+// model (factor.NewModel's errors).
 //
 // Cost per date: one fit per estimator plus, per estimator, its scoring: a
 // factor forecast O(N·K) per product (Woodbury solves); a dense one a
 // Cholesky factorization on all cores (N³/3 flops), shared by the
 // minimum-variance solve, the condition check and the loss, and O(S)
 // products of O(N·nnz) (S the long-only solver's steps, nnz its nonzero
-// weights); with Truth, 2N³ for the minimum-variance loss of a dense
-// forecast, O(N²·K) of a factor one. Result.Costs reports the split. Run is
+// weights); with Truth, the mean truth of the test period in factor form
+// (O(N²·K) for its dense form) and, for the minimum-variance loss, the
+// inverse of a dense forecast from its Cholesky factor (2N³/3 flops), a
+// factor forecast in O(N²·K). Result.Costs reports the split. Run is
 // RunShard of one shard merged (see Merge).
 func Run(p *riskmodel.Panel, opts *Options) (*Result, error) {
 	start := time.Now()
@@ -517,8 +544,11 @@ func (ev *evaluator) date(q, r int) (*dateResult, error) {
 	var truthSecs float64
 	if o.Truth != nil {
 		t2 := time.Now()
-		oracle := ev.truth(&in)
-		models = append(models, &riskmodel.Model{AsOf: asof, Assets: universe, PeriodsPerYear: p.PeriodsPerYear(), Method: OracleName, Dense: oracle})
+		oracle, err := ev.truth(&in)
+		if err != nil {
+			return nil, err
+		}
+		models = append(models, &riskmodel.Model{AsOf: asof, Assets: universe, PeriodsPerYear: p.PeriodsPerYear(), Method: OracleName, Factor: oracle})
 		secs = append(secs, 0)
 		truthSecs += time.Since(t2).Seconds()
 	}
@@ -640,22 +670,55 @@ func (ev *evaluator) inputs(q, r int, universe []string) dateInputs {
 	return in
 }
 
-// truth returns the oracle's forecast (the truth of the first test row) and
-// sets the mean truth of the test period and tr(Σ⁻¹) of it in in.
-func (ev *evaluator) truth(in *dateInputs) *mat.SymDense {
+// truth returns the oracle's forecast, the truth of the first test row,
+// and sets the mean truth of the test period, and what the losses against
+// it need, in in: both factor models on the universe's exposures, in
+// O(N·K²) and O(N²·K) for the dense mean truth.
+func (ev *evaluator) truth(in *dateInputs) (*factor.Model, error) {
+	tr := ev.o.Truth
 	n := len(in.cols)
-	full := ev.o.Truth(nil, in.r+1)
-	oracle := subSym(full, in.cols)
-	in.target = mat.NewSymDense(n, nil)
-	for d := 0; d < in.k; d++ {
-		if d > 0 {
-			full = ev.o.Truth(full, in.r+1+d)
-		}
-		in.target.AddSym(in.target, subSym(full, in.cols))
+	_, k := tr.Exposures.Dims()
+	b := mat.NewDense(n, k, nil)
+	for i, j := range in.cols {
+		b.SetRow(i, tr.Exposures.RawRowView(j))
 	}
-	in.target.ScaleSym(1/float64(in.k), in.target)
-	in.truthF = newTruthFactor(in.target)
-	return oracle
+	gather := func(d []float64) []float64 {
+		out := make([]float64, n)
+		for i, j := range in.cols {
+			out[i] = d[j]
+		}
+		return out
+	}
+	row := in.r + 1
+	f := tr.FactorCovariance(nil, row)
+	d := tr.SpecificVariances(nil, row)
+	oracle, err := factor.NewModel(b, f, gather(d), factor.Info{})
+	if err != nil {
+		return nil, fmt.Errorf("riskmodel: evaluate: the truth of row %d: %w", row, err)
+	}
+	fsum, dsum := mat.NewSymDense(k, nil), make([]float64, len(d))
+	for t := 0; t < in.k; t++ {
+		if t > 0 {
+			f = tr.FactorCovariance(f, row+t)
+			d = tr.SpecificVariances(d, row+t)
+		}
+		fsum.AddSym(fsum, f)
+		for i, v := range d {
+			dsum[i] += v
+		}
+	}
+	fsum.ScaleSym(1/float64(in.k), fsum)
+	dmean := gather(dsum)
+	for i := range dmean {
+		dmean[i] /= float64(in.k)
+	}
+	mean, err := factor.NewModel(b, fsum, dmean, factor.Info{})
+	if err != nil {
+		return nil, fmt.Errorf("riskmodel: evaluate: the mean truth of rows %d to %d: %w", row, row+in.k-1, err)
+	}
+	in.truthF = newTruthFactor(mean)
+	in.target = in.truthF.sigma
+	return oracle, nil
 }
 
 // score builds the test portfolios from one forecast and measures them on

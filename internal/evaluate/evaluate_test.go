@@ -46,7 +46,7 @@ func TestEvaluateRanksTruthFirst(t *testing.T) {
 	d, err := demo.Generate(&demo.Config{Seed: 3, Assets: 100, Sectors: 5, Dates: 120 + 21*8, Stationary: true})
 	require.NoError(t, err)
 	ev, err := Run(d.Panel, &Options{
-		Window: 120, Truth: d.TrueCovarianceTo, Benchmark: d.Benchmark, Fund: d.Fund,
+		Window: 120, Truth: TruthOf(d), Benchmark: d.Benchmark, Fund: d.Fund,
 		Methods: methodsOf(riskmodel.MethodSample, riskmodel.MethodLedoitWolf, riskmodel.MethodOAS, riskmodel.MethodSingleIndex),
 	})
 	require.NoError(t, err)
@@ -99,7 +99,7 @@ func TestEvaluateBiasBandWithTruth(t *testing.T) {
 			Stationary: true, SpecificDoF: math.Inf(1)})
 		require.NoError(t, err)
 		ev, err := Run(d.Panel, &Options{
-			Window: 40, Truth: d.TrueCovarianceTo, Methods: []Estimator{}, RandomPortfolios: perMarket,
+			Window: 40, Truth: TruthOf(d), Methods: []Estimator{}, RandomPortfolios: perMarket,
 		})
 		require.NoError(t, err)
 		require.Len(t, ev.Scores, 1)
@@ -181,7 +181,7 @@ func TestEvaluateNoLookAhead(t *testing.T) {
 func TestEvaluateDeterministicAndOutputs(t *testing.T) {
 	d, err := demo.Generate(&demo.Config{Seed: 8, Assets: 25, Sectors: 3, Dates: 60 + 21*3})
 	require.NoError(t, err)
-	opts := &Options{Window: 60, Benchmark: d.Benchmark, Fund: d.Fund, Truth: d.TrueCovarianceTo,
+	opts := &Options{Window: 60, Benchmark: d.Benchmark, Fund: d.Fund, Truth: TruthOf(d),
 		RandomPortfolios: 8, TrackingNames: 8, Methods: methodsOf(riskmodel.MethodLedoitWolf, riskmodel.MethodNonlinear, riskmodel.MethodFactor)}
 	var runs []*Result
 	for _, w := range []int{1, 3} {
@@ -283,7 +283,7 @@ func TestEvaluateInputsUnchanged(t *testing.T) {
 	d, err := demo.Generate(&demo.Config{Seed: 4, Assets: 12, Sectors: 2, Dates: 40 + 2*10})
 	require.NoError(t, err)
 	before := d.Panel.ReturnsTo(nil)
-	_, err = Run(d.Panel, &Options{Window: 40, Step: 10, Truth: d.TrueCovarianceTo,
+	_, err = Run(d.Panel, &Options{Window: 40, Step: 10, Truth: TruthOf(d),
 		Methods: methodsOf(riskmodel.MethodSample, riskmodel.MethodOAS), RandomPortfolios: 3})
 	require.NoError(t, err)
 	require.True(t, slices.EqualFunc(before.RawMatrix().Data, d.Panel.ReturnsTo(nil).RawMatrix().Data,

@@ -20,7 +20,7 @@ func ExampleRun() {
 		methods = append(methods, evaluate.Estimator{Build: riskmodel.BuildOptions{Method: m}})
 	}
 	ev, err := evaluate.Run(d.Panel, &evaluate.Options{
-		Window: 80, Methods: methods, Truth: d.TrueCovarianceTo, Benchmark: d.Benchmark, RandomPortfolios: 20,
+		Window: 80, Methods: methods, Truth: evaluate.TruthOf(d), Benchmark: d.Benchmark, RandomPortfolios: 20,
 	})
 	if err != nil {
 		panic(err)

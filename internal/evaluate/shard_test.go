@@ -78,7 +78,7 @@ func TestShardsMergeToOneRun(t *testing.T) {
 	d, err := demo.Generate(&demo.Config{Seed: 5, Assets: 60, Sectors: 4, Dates: 80 + 10*7})
 	require.NoError(t, err)
 	opts := &Options{
-		Window: 80, Step: 10, Truth: d.TrueCovarianceTo, Benchmark: d.Benchmark, Fund: d.Fund, RandomPortfolios: 20,
+		Window: 80, Step: 10, Truth: TruthOf(d), Benchmark: d.Benchmark, Fund: d.Fund, RandomPortfolios: 20,
 		Methods: methodsOf(riskmodel.MethodSample, riskmodel.MethodLedoitWolf, riskmodel.MethodFactor),
 	}
 	one, err := Run(d.Panel, opts)

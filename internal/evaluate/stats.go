@@ -163,35 +163,27 @@ func prial(lossSample, loss float64) float64 {
 // (gonum's mat.ConditionTolerance).
 const condTolerance = 1e16
 
-// truthFactor is what the minimum-variance losses against a truth Σ need,
-// computed once per date: Σ = LLᵀ (Cholesky, L = Uᵀ), L⁻ᵀ = U⁻¹ and
-// tr(Σ⁻¹) = ‖U⁻¹‖²_F. A truth that is not positive definite has L nil and
-// invTrace NaN.
+// truthFactor is what the losses against the truth of a test period need,
+// computed once per date from its factor form Σ = WWᵀ + D (W = B·L with
+// F = LLᵀ): Σ itself, dense, for the Frobenius loss and the factor
+// forecasts' traces; W and d for the dense forecasts' traces; and tr(Σ⁻¹)
+// by the Woodbury identity (factorInverse). invTrace is NaN when the
+// Woodbury inner matrix is not positive definite.
 type truthFactor struct {
 	sigma    *mat.SymDense
-	l, uinv  *mat.Dense
+	w        *mat.Dense // N×K
+	d        []float64
 	invTrace float64
 }
 
-// newTruthFactor factors the truth on all cores: the Cholesky factor
-// (N³/3 flops) and U⁻¹ = Σ⁻¹·Uᵀ by two triangular solves (2N³).
-func newTruthFactor(sigma *mat.SymDense) *truthFactor {
-	tf := &truthFactor{sigma: sigma, invTrace: math.NaN()}
-	var ch dense.Cholesky
-	if !ch.Factorize(sigma) {
-		return tf
-	}
-	n := sigma.SymmetricDim()
-	u := ch.UTo(nil)
-	tf.l = mat.NewDense(n, n, nil)
-	tf.l.Copy(u.T())
-	tf.uinv = ch.SolveTo(nil, tf.l)
-	tf.invTrace = symFrob2(tf.uinv)
+// newTruthFactor prepares the truth fm: Σ in O(N²·K), the rest in O(N·K²);
+// no N×N factorization.
+func newTruthFactor(fm *factor.Model) *truthFactor {
+	g, _ := fm.SqrtTo(nil, nil) // Wᵀ
+	tf := &truthFactor{sigma: fm.CovarianceTo(nil), w: mat.DenseCopyOf(g.T()), d: fm.SpecificVariancesTo(nil)}
+	_, _, tf.invTrace = factorInverse(fm)
 	return tf
 }
-
-// invTrace returns tr(Σ⁻¹), NaN if Σ is not positive definite.
-func invTrace(s *mat.SymDense) float64 { return newTruthFactor(s).invTrace }
 
 // symFrob2 returns ‖a‖²_F.
 func symFrob2(a *mat.Dense) float64 {
@@ -207,14 +199,16 @@ func symFrob2(a *mat.Dense) float64 {
 
 // mvLossOf returns the minimum-variance loss of the forecast behind op
 // against the truth of tf (see mvLoss), NaN when either is not positive
-// definite. A dense forecast reuses op's Cholesky factor: with Σ = LLᵀ and
-// Z = Σ̂⁻¹L (two triangular solves on all cores, 2N³ flops),
+// definite. A dense forecast reuses op's Cholesky factor for its inverse
+// P = Σ̂⁻¹ (Cholesky.InverseTo, 2N³/3 flops on all cores); with the truth
+// Σ = WWᵀ + D,
 //
-//	tr(Σ̂⁻¹ΣΣ̂⁻¹) = ‖Z‖²_F,   tr(Σ̂⁻¹) = tr(Z·L⁻¹) = ⟨Z, L⁻ᵀ⟩_F.
+//	tr(Σ̂⁻¹) = tr(P),   tr(Σ̂⁻¹ΣΣ̂⁻¹) = ‖P·W‖²_F + Σᵢ dᵢ·‖P_i‖²,
 //
-// A factor forecast stays in factor form (factorMVTraces), O(N²·K).
+// P_i the i-th row of P, in O(N²·K) more. A factor forecast stays in factor
+// form (factorMVTraces), O(N²·K).
 func mvLossOf(op *covOp, tf *truthFactor) float64 {
-	if tf.l == nil {
+	if math.IsNaN(tf.invTrace) {
 		return math.NaN()
 	}
 	n := tf.sigma.SymmetricDim()
@@ -223,11 +217,26 @@ func mvLossOf(op *covOp, tf *truthFactor) float64 {
 	case op.fm != nil:
 		tr, num = factorMVTraces(op.fm, tf.sigma)
 	case op.chol != nil && op.cond <= condTolerance:
-		z := op.chol.SolveTo(nil, tf.l)
-		num = symFrob2(z)
-		zr, ur := z.RawMatrix(), tf.uinv.RawMatrix()
+		p := op.chol.InverseTo(nil)
+		rows := make([]float64, n) // ‖P_i‖², from the upper triangle
+		raw := p.RawSymmetric()
 		for i := 0; i < n; i++ {
-			tr += evalDot(zr.Data[i*zr.Stride:i*zr.Stride+n], ur.Data[i*ur.Stride:i*ur.Stride+n])
+			row := raw.Data[i*raw.Stride : i*raw.Stride+n]
+			tr += row[i]
+			rows[i] += row[i] * row[i]
+			var s float64
+			for j := i + 1; j < n; j++ {
+				v := row[j] * row[j]
+				s += v
+				rows[j] += v
+			}
+			rows[i] += s
+		}
+		for i, v := range rows {
+			num += tf.d[i] * v
+		}
+		if _, k := tf.w.Dims(); k > 0 {
+			num += symFrob2(dense.Mul(nil, dense.SymView(p), tf.w))
 		}
 	default:
 		return math.NaN()
@@ -268,14 +277,52 @@ func symInner(a, b *mat.SymDense) float64 {
 // Memorandum Report 42, Statistical Research Group, Princeton University.
 func factorMVTraces(fm *factor.Model, truth *mat.SymDense) (tr, num float64) {
 	n, k := fm.SymmetricDim(), fm.NumFactors()
-	g, s := fm.SqrtTo(nil, nil) // g = LᵀBᵀ (K×N) = Wᵀ, s = √d
+	y, s, tr := factorInverse(fm)
+	if math.IsNaN(tr) {
+		return math.NaN(), math.NaN()
+	}
 	for i := 0; i < n; i++ {
 		d := s[i] * s[i]
-		tr += 1 / d
 		num += truth.At(i, i) / (d * d)
 	}
 	if k == 0 {
 		return tr, num
+	}
+	q := dense.Mul(nil, evalFull(truth), y) // ΣY, N×K
+	var yy, yq, ydq mat.Dense
+	yy.Mul(y.T(), y)
+	yq.Mul(y.T(), q)
+	dq := mat.NewDense(n, k, nil)
+	for i := 0; i < n; i++ {
+		d := s[i] * s[i]
+		for j := 0; j < k; j++ {
+			dq.Set(i, j, q.At(i, j)/d)
+		}
+	}
+	ydq.Mul(y.T(), dq)
+	for j := 0; j < k; j++ {
+		num -= 2 * ydq.At(j, j)
+	}
+	var m mat.Dense
+	m.Mul(&yq, &yy)
+	for j := 0; j < k; j++ {
+		num += m.At(j, j)
+	}
+	return tr, num
+}
+
+// factorInverse returns the Woodbury form Σ̂⁻¹ = D⁻¹ − YYᵀ of the factor
+// model fm (see factorMVTraces): Y (N×K, nil for K = 0), the specific
+// volatilities s = √d and tr(Σ̂⁻¹) = Σᵢ 1/dᵢ − ‖Y‖²_F, NaN (and Y nil) when
+// the inner matrix I + WᵀD⁻¹W is not positive definite. Cost O(N·K²).
+func factorInverse(fm *factor.Model) (y *mat.Dense, s []float64, tr float64) {
+	n, k := fm.SymmetricDim(), fm.NumFactors()
+	g, s := fm.SqrtTo(nil, nil) // g = LᵀBᵀ (K×N) = Wᵀ, s = √d
+	for i := 0; i < n; i++ {
+		tr += 1 / (s[i] * s[i])
+	}
+	if k == 0 {
+		return nil, s, tr
 	}
 	// H = D⁻¹W (N×K) and the K×K inner matrix I + WᵀD⁻¹W.
 	h := mat.NewDense(n, k, nil)
@@ -300,37 +347,15 @@ func factorMVTraces(fm *factor.Model, truth *mat.SymDense) (tr, num float64) {
 	}
 	var ch mat.Cholesky
 	if !ch.Factorize(inner) {
-		return math.NaN(), math.NaN()
+		return nil, s, math.NaN()
 	}
-	var r mat.TriDense
+	var r, rinv mat.TriDense
 	ch.UTo(&r)
-	// Y = H·R⁻¹.
-	y := mat.NewDense(n, k, nil)
-	var rinv mat.TriDense
 	if err := rinv.InverseTri(&r); err != nil {
-		return math.NaN(), math.NaN()
+		return nil, s, math.NaN()
 	}
+	// Y = H·R⁻¹.
+	y = mat.NewDense(n, k, nil)
 	y.Mul(h, &rinv)
-	q := dense.Mul(nil, evalFull(truth), y) // ΣY, N×K
-	var yy, yq, ydq mat.Dense
-	yy.Mul(y.T(), y)
-	yq.Mul(y.T(), q)
-	dq := mat.NewDense(n, k, nil)
-	for i := 0; i < n; i++ {
-		d := s[i] * s[i]
-		for j := 0; j < k; j++ {
-			dq.Set(i, j, q.At(i, j)/d)
-		}
-	}
-	ydq.Mul(y.T(), dq)
-	for j := 0; j < k; j++ {
-		tr -= yy.At(j, j)
-		num -= 2 * ydq.At(j, j)
-	}
-	var m mat.Dense
-	m.Mul(&yq, &yy)
-	for j := 0; j < k; j++ {
-		num += m.At(j, j)
-	}
-	return tr, num
+	return y, s, tr - symFrob2(y)
 }

@@ -9,6 +9,7 @@ import (
 	"testing"
 
 	"github.com/riskmodel/riskmodel"
+	"github.com/riskmodel/riskmodel/factor"
 	"github.com/riskmodel/riskmodel/internal/dense"
 
 	"github.com/stretchr/testify/require"
@@ -84,7 +85,7 @@ func TestEvaluateLosses(t *testing.T) {
 
 	_, tinv := denseAndInverse(&riskmodel.Model{Dense: truth})
 	require.NotNil(t, tinv)
-	tr := invTrace(truth)
+	tr := mat.Trace(tinv)
 	require.InDelta(t, 0, mvLoss(tinv, truth, tr), 1e-12)
 	var scaled mat.SymDense
 	scaled.ScaleSym(2.5, truth)
@@ -100,7 +101,6 @@ func TestEvaluateLosses(t *testing.T) {
 	singular := mat.NewSymDense(2, []float64{1, 1, 1, 1})
 	_, inv := denseAndInverse(&riskmodel.Model{Dense: singular})
 	require.Nil(t, inv)
-	require.True(t, math.IsNaN(invTrace(singular)))
 }
 
 // The reference computations of the minimum-variance loss: the explicit
@@ -156,30 +156,45 @@ func denseAndInverse(m *riskmodel.Model) (*mat.SymDense, *mat.SymDense) {
 	return m.Dense, inv
 }
 
-// The minimum-variance loss from the scoring's Cholesky factor (dense) and
-// in factor form (Woodbury) equals the reference computation from the
-// explicit inverse to rounding: on a random positive definite matrix, a
-// factor model and its dense form, against a truth that is neither.
+// The minimum-variance loss from the scoring's Cholesky factor (dense, by
+// its inverse) and in factor form (Woodbury) equals the reference
+// computation from gonum's explicit inverses to rounding: on a random
+// positive definite matrix, a factor model and its dense form, against a
+// truth in factor form with three factors and with none; and it is zero
+// for the truth itself, dense or in factor form.
 func TestMVLossOfMatchesReference(t *testing.T) {
 	rs := rand.New(rand.NewPCG(11, 4))
 	n, k := 40, 3
-	truth := randomSPD(rs, n, 0.1)
-	tr := invTrace(truth)
 	fm := randomFactorModel(t, rs, n, k)
-	for name, m := range map[string]*riskmodel.Model{
-		"dense":           {Dense: randomSPD(rs, n, 0.05)},
-		"factor":          {Factor: fm},
-		"factor as dense": {Dense: fm.CovarianceTo(nil)},
-	} {
-		_, inv := denseAndInverse(m)
-		want := mvLoss(inv, truth, tr)
-		got := mvLossOf(newCovOp(m.Covariance()), newTruthFactor(truth))
-		require.InDelta(t, want, got, 1e-12*math.Abs(want), name)
-		require.Positive(t, got, name)
+	diag := make([]float64, n)
+	for i := range diag {
+		diag[i] = 0.5 + rs.Float64()
 	}
-	require.InDelta(t, 0, mvLossOf(newCovOp(truth), newTruthFactor(truth)), 1e-12)
-	// Not positive definite: NaN.
+	specificOnly, err := factor.NewModel(nil, nil, diag, factor.Info{})
+	require.NoError(t, err)
+	for truthName, truthFM := range map[string]*factor.Model{"3 factors": randomFactorModel(t, rs, n, k), "no factor": specificOnly} {
+		truth := truthFM.CovarianceTo(nil)
+		_, tinv := denseAndInverse(&riskmodel.Model{Dense: truth})
+		tr := mat.Trace(tinv)
+		tf := newTruthFactor(truthFM)
+		require.InDelta(t, tr, tf.invTrace, 1e-12*tr, truthName)
+		for name, m := range map[string]*riskmodel.Model{
+			"dense":           {Dense: randomSPD(rs, n, 0.05)},
+			"factor":          {Factor: fm},
+			"factor as dense": {Dense: fm.CovarianceTo(nil)},
+		} {
+			_, inv := denseAndInverse(m)
+			want := mvLoss(inv, truth, tr)
+			got := mvLossOf(newCovOp(m.Covariance()), tf)
+			require.InDelta(t, want, got, 1e-12*math.Abs(want), "%s, %s", truthName, name)
+			require.Positive(t, got, "%s, %s", truthName, name)
+		}
+		require.InDelta(t, 0, mvLossOf(newCovOp(truth), tf), 1e-12, truthName)
+		require.InDelta(t, 0, mvLossOf(newCovOp(truthFM), tf), 1e-12, truthName)
+	}
+	// A forecast that is not positive definite: NaN.
 	singular := mat.NewSymDense(2, []float64{1, 1, 1, 1})
-	require.True(t, math.IsNaN(mvLossOf(newCovOp(singular), newTruthFactor(mat.NewSymDense(2, []float64{1, 0, 0, 1})))))
-	require.True(t, math.IsNaN(mvLossOf(newCovOp(mat.NewSymDense(2, []float64{1, 0, 0, 1})), newTruthFactor(singular))))
+	unit, err := factor.NewModel(nil, nil, []float64{1, 1}, factor.Info{})
+	require.NoError(t, err)
+	require.True(t, math.IsNaN(mvLossOf(newCovOp(singular), newTruthFactor(unit))))
 }
