@@ -136,8 +136,12 @@ type BuildReport struct {
 	// sharing fewer than 2 dates with another kept asset, with their
 	// coverage; the notes give the count of each.
 	Dropped []Coverage
-	Missing int // missing cells of the window's returns for the kept assets
-	Imputed int // missing cells filled with the asset's window mean (shrinkage methods)
+	// EmptyDates lists the dates of the window on which no kept asset has a
+	// return (a market holiday written as a row of blanks, say): they are
+	// left out of the fit, and Dates does not count them.
+	EmptyDates []Date
+	Missing    int // missing cells of the window's returns for the kept assets
+	Imputed    int // missing cells filled with the asset's window mean (shrinkage methods)
 	// Unclassified lists assets the exposure and hybrid methods dropped for
 	// a missing sector or market cap.
 	Unclassified []string
@@ -187,6 +191,11 @@ func Build(p *Panel, asof Date, opts *BuildOptions) (*Model, *BuildReport, error
 			return nil, nil, fmt.Errorf("riskmodel: build %s: %w: no asset has both a sector and a positive market cap (asset metadata columns sector and market_cap)",
 				o.Method, ErrEmpty)
 		}
+	}
+	// A date on which no kept asset has a return carries no information,
+	// and the factor methods cannot fit one: it leaves the window.
+	win, empty := win.dropEmptyDates()
+	if o.Method == MethodExposure || o.Method == MethodHybrid {
 		// The regressions start after the styles' look-back: the window must
 		// be longer, and an asset needs observations after it.
 		look := factor.ExposureSettings{}.Lookback()
@@ -213,7 +222,11 @@ func Build(p *Panel, asof Date, opts *BuildOptions) (*Model, *BuildReport, error
 	}
 	rep := &BuildReport{
 		Method: o.Method, AsOf: asof, Start: win.dates[0], End: win.dates[t-1],
-		Dates: t, Assets: n, MinObs: minObs, Dropped: dropped, Missing: countNaN(win.r),
+		Dates: t, Assets: n, MinObs: minObs, Dropped: dropped, EmptyDates: empty, Missing: countNaN(win.r),
+	}
+	if len(empty) > 0 {
+		rep.Notes = append(rep.Notes, fmt.Sprintf("%d dates of the window with no return for any kept asset left out, first %s (a holiday row in the file, say)",
+			len(empty), empty[0]))
 	}
 	if sparse := len(dropped) - unpaired; sparse > 0 {
 		rep.Notes = append(rep.Notes, fmt.Sprintf("%d assets dropped for fewer than %d observations in the window", sparse, minObs))

@@ -9,13 +9,14 @@ import (
 // requested window longer than the history up to the as-of date is cut to
 // it, and the record and the notes say so.
 func recordWindow(m *Model, rep *BuildReport, requested int) {
-	if rep.Dates >= requested {
+	history := rep.Dates + len(rep.EmptyDates)
+	if history >= requested {
 		return
 	}
-	m.Settings["window"] = strconv.Itoa(rep.Dates)
+	m.Settings["window"] = strconv.Itoa(history)
 	m.Settings["window_requested"] = strconv.Itoa(requested)
 	rep.Notes = append(rep.Notes, fmt.Sprintf("window of %d dates requested, the history up to %s has %d: used %d (from %s)",
-		requested, rep.AsOf, rep.Dates, rep.Dates, rep.Start))
+		requested, rep.AsOf, history, history, rep.Start))
 }
 
 // recordGroups records the grouping of the specific-variance shrinkage for

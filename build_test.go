@@ -2,6 +2,8 @@ package riskmodel_test
 
 import (
 	"math"
+	"slices"
+	"strings"
 	"testing"
 
 	"github.com/riskmodel/riskmodel"
@@ -227,4 +229,53 @@ func TestBuildPairwiseDropsAssetsThatShareTooFewDates(t *testing.T) {
 	require.NoError(t, err)
 	require.Empty(t, rep.Dropped)
 	require.Contains(t, m.Assets, p.Asset(1))
+}
+
+// A date on which no asset has a return (a holiday written as a row of
+// blanks) leaves the window: every method builds (the factor methods used
+// to fail with factor.ErrEmptyDate), the report lists the date and a note
+// says so, and the covariance is the one built on the panel without that
+// row, bit for bit.
+func TestBuildLeavesOutDatesWithNoReturn(t *testing.T) {
+	market, err := demo.Generate(&demo.Config{Seed: 6, Assets: 30, Sectors: 3, Dates: 300, Stationary: true})
+	require.NoError(t, err)
+	p := market.Panel
+	tt, n := p.Dims()
+	asof := p.Date(tt - 1)
+	holidays := []int{tt - 200, tt - 3}
+	x := p.ReturnsTo(nil)
+	for _, i := range holidays {
+		for j := 0; j < n; j++ {
+			x.Set(i, j, math.NaN())
+		}
+	}
+	q, err := riskmodel.NewPanel(p.Dates(), p.Assets(), x, 0)
+	require.NoError(t, err)
+	var dates []riskmodel.Date
+	var rows []float64
+	for i := 0; i < tt; i++ {
+		if !slices.Contains(holidays, i) {
+			dates = append(dates, p.Date(i))
+			rows = append(rows, x.RawRowView(i)...)
+		}
+	}
+	without, err := riskmodel.NewPanel(dates, p.Assets(), mat.NewDense(len(dates), n, rows), 0)
+	require.NoError(t, err)
+	for _, method := range riskmodel.Methods {
+		if method == riskmodel.MethodExposure || method == riskmodel.MethodHybrid {
+			continue // they need asset metadata
+		}
+		m, rep, err := riskmodel.Build(q, asof, &riskmodel.BuildOptions{Method: method, Window: 250, MinObs: 100})
+		require.NoError(t, err, method)
+		require.Equal(t, []riskmodel.Date{p.Date(holidays[0]), p.Date(holidays[1])}, rep.EmptyDates, method)
+		require.Equal(t, 248, rep.Dates, method)
+		require.True(t, slices.ContainsFunc(m.Notes, func(s string) bool {
+			return strings.HasPrefix(s, "2 dates of the window with no return for any kept asset left out, first "+p.Date(holidays[0]).String())
+		}), "%s: %q", method, m.Notes)
+		ref, refRep, err := riskmodel.Build(without, asof, &riskmodel.BuildOptions{Method: method, Window: 248, MinObs: 100})
+		require.NoError(t, err, method)
+		require.Empty(t, refRep.EmptyDates)
+		require.Equal(t, ref.Assets, m.Assets, method)
+		require.True(t, mat.Equal(ref.Covariance(), m.Covariance()), method)
+	}
 }

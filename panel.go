@@ -2,6 +2,7 @@ package riskmodel
 
 import (
 	"fmt"
+	"maps"
 	"math"
 	"slices"
 	"sort"
@@ -403,4 +404,42 @@ func (p *Panel) DropSparse(minObs int) (*Panel, []Coverage) {
 		keep = []int{}
 	}
 	return p.Select(keep), dropped
+}
+
+// dropEmptyDates returns the panel without the dates on which no asset has
+// a return (a market holiday left as a row of blanks in a wide file, or a
+// date that only dropped assets traded), and those dates; p itself when
+// there is none. Cost O(T·N) at most.
+func (p *Panel) dropEmptyDates() (*Panel, []Date) {
+	t, n := p.Dims()
+	var empty []Date
+	keep := make([]int, 0, t)
+	for i := 0; i < t; i++ {
+		observed := false
+		if n > 0 {
+			for _, v := range p.r.RawRowView(i) {
+				if !math.IsNaN(v) {
+					observed = true
+					break
+				}
+			}
+		}
+		if observed {
+			keep = append(keep, i)
+		} else {
+			empty = append(empty, p.dates[i])
+		}
+	}
+	if len(empty) == 0 || n == 0 {
+		return p, nil
+	}
+	q := &Panel{dates: make([]Date, len(keep)), assets: slices.Clone(p.assets), col: maps.Clone(p.col), periodsPerYear: p.periodsPerYear}
+	if len(keep) > 0 {
+		q.r = mat.NewDense(len(keep), n, nil)
+		for k, i := range keep {
+			q.dates[k] = p.dates[i]
+			copy(q.r.RawRowView(k), p.r.RawRowView(i))
+		}
+	}
+	return q, empty
 }
