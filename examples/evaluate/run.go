@@ -240,8 +240,12 @@ func writeResults(cfg config, ev *evaluate.Result, stdout, stderr io.Writer) err
 	switch cfg.format {
 	case "csv":
 		err = ev.WriteCSV(stdout)
-		// A CSV table has no room for prose: the caution goes to stderr.
+		// A CSV table has no room for prose: the caution and the skipped
+		// dates go to stderr.
 		fmt.Fprintf(stderr, "evaluate: caution: %s\n", riskmodel.Caution)
+		for _, d := range ev.Skipped {
+			fmt.Fprintf(stderr, "evaluate: skipped rebalance date %s: %s\n", d.AsOf, d.Error)
+		}
 	case "json":
 		err = ev.WriteJSON(stdout)
 	default:

@@ -130,6 +130,19 @@ type Result struct {
 	Elapsed        time.Duration // wall-clock time of Evaluate; not used in any ranking
 	// Costs splits the work of the evaluation; not used in any ranking.
 	Costs Costs
+	// Skipped lists the rebalance dates left out because an estimator (or
+	// the truth) failed on them, with the error; every score is over the
+	// other dates, the same for every estimator.
+	Skipped []SkippedDate
+}
+
+// ErrNoDate reports an evaluation whose every rebalance date failed.
+var ErrNoDate = errors.New("no rebalance date could be evaluated")
+
+// SkippedDate is a rebalance date that the evaluation left out.
+type SkippedDate struct {
+	AsOf  riskmodel.Date
+	Error string
 }
 
 // Costs is the wall-clock time of the parts of an evaluation, each summed
@@ -247,13 +260,16 @@ type PeriodForecast struct {
 //
 // Rebalance dates are processed by Workers goroutines and gathered in date
 // order; every random draw is seeded, so the Result is the same whatever
-// GOMAXPROCS, apart from the timings, which no ranking uses.
+// GOMAXPROCS, apart from the timings, which no ranking uses. A date on which
+// an estimator cannot be built (or the truth is not a valid factor model)
+// is left out for every estimator and listed in Result.Skipped with the
+// error, so that one bad window does not throw away a long run; the
+// tracking turnover then spans the gap.
 //
 // Errors: ErrInput for options that cannot be met (a Step below 2, a
 // Window below 2, no rebalance date with a full test period, an unknown
-// benchmark asset), any error of riskmodel.Build, naming the date and
-// estimator, and a Truth whose covariance of a row is not a valid factor
-// model (factor.NewModel's errors).
+// benchmark asset), and ErrNoDate, with the first date's error, when every
+// rebalance date was skipped.
 //
 // Cost per date: one fit per estimator plus, per estimator, its scoring: a
 // factor forecast O(N·K) per product (Woodbury solves); a dense one a
@@ -295,11 +311,11 @@ func rebalanceRows(p *riskmodel.Panel, o resolvedOptions) ([]int, error) {
 }
 
 // runDates evaluates the rebalance dates q of qs (rows asof[q]) on Workers
-// goroutines and returns their results in the order of qs.
-func (ev *evaluator) runDates(asof, qs []int) ([]*dateResult, error) {
+// goroutines and returns their results in the order of qs; a date that
+// fails holds its period and the error only.
+func (ev *evaluator) runDates(asof, qs []int) []*dateResult {
 	o := ev.o
 	results := make([]*dateResult, len(qs))
-	errs := make([]error, len(qs))
 	jobs := make(chan int)
 	var wg sync.WaitGroup
 	var mu sync.Mutex
@@ -309,7 +325,12 @@ func (ev *evaluator) runDates(asof, qs []int) ([]*dateResult, error) {
 		go func() {
 			defer wg.Done()
 			for k := range jobs {
-				results[k], errs[k] = ev.date(qs[k], asof[qs[k]])
+				r := asof[qs[k]]
+				res, err := ev.date(qs[k], r)
+				if err != nil {
+					res = &dateResult{period: Period{AsOf: ev.p.Date(r), First: ev.p.Date(r + 1), Last: ev.p.Date(r + o.Step)}, failure: err.Error()}
+				}
+				results[k] = res
 				if o.Progress != nil {
 					mu.Lock()
 					done++
@@ -324,12 +345,7 @@ func (ev *evaluator) runDates(asof, qs []int) ([]*dateResult, error) {
 	}
 	close(jobs)
 	wg.Wait()
-	for _, err := range errs {
-		if err != nil {
-			return nil, err
-		}
-	}
-	return results, nil
+	return results
 }
 
 // resolvedOptions is Options with its defaults resolved.
@@ -479,6 +495,9 @@ type dateResult struct {
 	// The date's costs, in seconds: the fits, the portfolios and their
 	// measures, the truth and the losses against it.
 	fitSecs, scoreSecs, truthSecs float64
+	// failure is the error that stopped the date (an estimator that could
+	// not be built on its window, say); such a date has only its period.
+	failure string
 }
 
 // estimatorDate is one estimator's measures on one date: forecasts (per

@@ -97,12 +97,19 @@ type evaluationJSON struct {
 	Recommendation string           `json:"recommendation"`
 	Estimators     []map[string]any `json:"estimators"`
 	Caution        string           `json:"caution"`
+	// The rebalance dates left out (Result.Skipped).
+	Skipped []skippedJSON `json:"skipped_dates"`
 	// The costs (Result.Costs) in seconds, summed over the dates.
 	Costs struct {
 		Fits    float64 `json:"fits"`
 		Scoring float64 `json:"scoring"`
 		Truth   float64 `json:"truth_losses"`
 	} `json:"cost_seconds"`
+}
+
+type skippedJSON struct {
+	AsOf  string `json:"as_of"`
+	Error string `json:"error"`
 }
 
 // WriteJSON writes the evaluation's settings, recommendation and one object
@@ -114,6 +121,10 @@ func (ev *Result) WriteJSON(w io.Writer) error {
 		Metrics: ev.Metrics, Recommendation: ev.Recommendation, Caution: riskmodel.Caution,
 	}
 	out.Costs.Fits, out.Costs.Scoring, out.Costs.Truth = ev.Costs.Fits.Seconds(), ev.Costs.Scoring.Seconds(), ev.Costs.Truth.Seconds()
+	out.Skipped = []skippedJSON{}
+	for _, d := range ev.Skipped {
+		out.Skipped = append(out.Skipped, skippedJSON{AsOf: d.AsOf.String(), Error: d.Error})
+	}
 	if len(ev.Periods) > 0 {
 		out.First = ev.Periods[0].AsOf.String()
 		out.Last = ev.Periods[len(ev.Periods)-1].Last.String()
@@ -214,6 +225,13 @@ func (ev *Result) WriteText(w io.Writer) error {
 		}
 	}
 	b.WriteString(ev.Recommendation + "\n")
+	if len(ev.Skipped) > 0 {
+		fmt.Fprintf(&b, "Skipped %d of %d rebalance dates, on which an estimator failed (every score is over the others):\n",
+			len(ev.Skipped), len(ev.Skipped)+len(ev.Periods))
+		for _, d := range ev.Skipped {
+			fmt.Fprintf(&b, "  %s: %s\n", d.AsOf, d.Error)
+		}
+	}
 	b.WriteString("Caution: " + riskmodel.Caution + "\n")
 	_, err := io.WriteString(w, b.String())
 	return err

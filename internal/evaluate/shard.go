@@ -28,7 +28,7 @@ import (
 var ErrShard = errors.New("shards do not make one evaluation")
 
 // shardFormat is the version of the shard file's layout.
-const shardFormat = 1
+const shardFormat = 2
 
 // gatherSpec is what pooling the dates needs of the options and the panel.
 type gatherSpec struct {
@@ -87,11 +87,7 @@ func RunShard(p *riskmodel.Panel, opts *Options, i, n int) (*Shard, error) {
 		qs = append(qs, k)
 	}
 	ev := &evaluator{p: p, o: o}
-	res, err := ev.runDates(asof, qs)
-	if err != nil {
-		return nil, err
-	}
-	return &Shard{spec: spec, dates: res}, nil
+	return &Shard{spec: spec, dates: ev.runDates(asof, qs)}, nil
 }
 
 // specOf returns the gathering spec of the resolved options on p, with the
@@ -190,7 +186,21 @@ func Merge(shards ...*Shard) (*Result, error) {
 		}
 		res = append(res, sh.dates...)
 	}
-	return gather(first, res), nil
+	var ok []*dateResult
+	var skipped []SkippedDate
+	for _, d := range res {
+		if d.failure != "" {
+			skipped = append(skipped, SkippedDate{AsOf: d.period.AsOf, Error: d.failure})
+			continue
+		}
+		ok = append(ok, d)
+	}
+	if len(ok) == 0 && len(skipped) > 0 {
+		return nil, fmt.Errorf("riskmodel: evaluate: %w: all %d failed, the first on %s: %s", ErrNoDate, len(skipped), skipped[0].AsOf, skipped[0].Error)
+	}
+	out := gather(first, ok)
+	out.Skipped = skipped
+	return out, nil
 }
 
 // seconds converts seconds to a duration.
@@ -213,6 +223,7 @@ type wireDate struct {
 	RefRet                        []float64
 	Universe                      []string
 	FitSecs, ScoreSecs, TruthSecs float64
+	Failure                       string
 }
 
 type wireEst struct {
@@ -230,7 +241,7 @@ type wireEst struct {
 func (s *Shard) Write(w io.Writer) error {
 	f := shardFile{Magic: shardMagic, Spec: s.spec}
 	for _, d := range s.dates {
-		wd := wireDate{Period: d.period, RefRet: d.refRet, Universe: d.universe, FitSecs: d.fitSecs, ScoreSecs: d.scoreSecs, TruthSecs: d.truthSecs}
+		wd := wireDate{Period: d.period, RefRet: d.refRet, Universe: d.universe, FitSecs: d.fitSecs, ScoreSecs: d.scoreSecs, TruthSecs: d.truthSecs, Failure: d.failure}
 		for _, e := range d.est {
 			wd.Est = append(wd.Est, wireEst{
 				Forecast: e.forecast, GMV: e.gmv, Long: e.long, Trk: e.trk, GMVZ: e.gmvZ, LongZ: e.longZ, TrkZ: e.trkZ, TrkW: e.trkW,
@@ -256,6 +267,10 @@ func ReadShard(r io.Reader) (*Shard, error) {
 	sh := &Shard{spec: f.Spec}
 	nest := len(f.Spec.Names)
 	for _, wd := range f.Dates {
+		if wd.Failure != "" {
+			sh.dates = append(sh.dates, &dateResult{period: wd.Period, failure: wd.Failure})
+			continue
+		}
 		if len(wd.Est) != nest || len(wd.Period.Forecasts) != nest {
 			return nil, fmt.Errorf("riskmodel: evaluate: %w: a date of shard %d/%d has %d estimators, not %d", ErrShard, f.Spec.Shard, f.Spec.Shards, len(wd.Est), nest)
 		}

@@ -2,7 +2,9 @@ package evaluate
 
 import (
 	"bytes"
+	"encoding/json"
 	"errors"
+	"fmt"
 	"math"
 	"testing"
 
@@ -179,4 +181,91 @@ func TestMemoryEstimate(t *testing.T) {
 		_, err := Memory(small.Panel, &o, 1)
 		require.ErrorIs(t, err, ErrInput)
 	}
+}
+
+// A window in which an estimator cannot be built leaves its rebalance date
+// out of the evaluation, for every estimator, with the error in
+// Result.Skipped and in the text and JSON reports; the other dates are
+// scored as if it had never been there, and shards carry the skipped dates
+// through their files to the same merged Result. An evaluation whose every
+// date fails is an error.
+func TestFailedDatesAreSkippedAndListed(t *testing.T) {
+	d, err := demo.Generate(&demo.Config{Seed: 8, Assets: 10, Sectors: 2, Dates: 100})
+	require.NoError(t, err)
+	// Nine of the ten assets lose rows 40–69: the windows of 30 dates that
+	// end on rows 59, 69 and 79 keep fewer than MinObs = 15 of their dates,
+	// so those windows hold one asset, on which no factor model can be built.
+	r := d.Panel.ReturnsTo(nil)
+	for i := 40; i < 70; i++ {
+		for j := 1; j < 10; j++ {
+			r.Set(i, j, math.NaN())
+		}
+	}
+	p, err := riskmodel.NewPanel(d.Panel.Dates(), d.Panel.Assets(), r, d.Panel.PeriodsPerYear())
+	require.NoError(t, err)
+	opts := &Options{Window: 30, Step: 10, RandomPortfolios: 5,
+		Methods: methodsOf(riskmodel.MethodLedoitWolf, riskmodel.MethodFactor)}
+	ev, err := Run(p, opts)
+	require.NoError(t, err)
+	var kept []riskmodel.Date
+	for _, pd := range ev.Periods {
+		kept = append(kept, pd.AsOf)
+	}
+	require.Equal(t, []riskmodel.Date{p.Date(29), p.Date(39), p.Date(49), p.Date(89)}, kept)
+	require.Len(t, ev.Skipped, 3)
+	for k, row := range []int{59, 69, 79} {
+		require.Equal(t, p.Date(row), ev.Skipped[k].AsOf)
+		require.Contains(t, ev.Skipped[k].Error, "evaluate factor on "+p.Date(row).String(), "the error names the estimator and the date")
+	}
+	require.Equal(t, 4*10, ev.TestDates)
+	var txt, js bytes.Buffer
+	require.NoError(t, ev.WriteText(&txt))
+	require.Contains(t, txt.String(), "Skipped 3 of 7 rebalance dates")
+	require.Contains(t, txt.String(), p.Date(69).String()+": "+ev.Skipped[1].Error)
+	require.NoError(t, ev.WriteJSON(&js))
+	var out struct {
+		Skipped []struct{ AsOf, Error string } `json:"skipped_dates"`
+	}
+	require.NoError(t, json.Unmarshal(js.Bytes(), &out))
+	require.Len(t, out.Skipped, 3)
+
+	// The first date's window and test period end before the gap: its
+	// figures are those of an evaluation of the panel where nothing fails.
+	clean, err := Run(d.Panel, opts)
+	require.NoError(t, err)
+	require.Len(t, clean.Periods, 7)
+	require.Empty(t, clean.Skipped)
+	a, b := clean.Periods[0], ev.Periods[0]
+	for e := range a.Forecasts {
+		a.Forecasts[e].FitSeconds, b.Forecasts[e].FitSeconds = 0, 0
+	}
+	require.Equal(t, fmt.Sprintf("%v", a), fmt.Sprintf("%v", b)) // NaN losses: compare as printed (%v prints every digit)
+
+	// Through shard files: the same Result.
+	var shards []*Shard
+	for i := 1; i <= 3; i++ {
+		sh, err := RunShard(p, opts, i, 3)
+		require.NoError(t, err)
+		var buf bytes.Buffer
+		require.NoError(t, sh.Write(&buf))
+		back, err := ReadShard(&buf)
+		require.NoError(t, err)
+		shards = append(shards, back)
+	}
+	merged, err := Merge(shards...)
+	require.NoError(t, err)
+	requireSameBits(t, withoutTimings(ev), withoutTimings(merged))
+	require.Equal(t, ev.Skipped, merged.Skipped)
+
+	// Every date failing is an error.
+	for i := 0; i < 100; i++ {
+		for j := 1; j < 10; j++ {
+			r.Set(i, j, math.NaN())
+		}
+	}
+	p, err = riskmodel.NewPanel(d.Panel.Dates(), d.Panel.Assets(), r, d.Panel.PeriodsPerYear())
+	require.NoError(t, err)
+	_, err = Run(p, opts)
+	require.ErrorIs(t, err, ErrNoDate)
+	require.ErrorContains(t, err, "all 7 failed, the first on "+p.Date(29).String())
 }
