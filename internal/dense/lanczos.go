@@ -1,0 +1,93 @@
+package dense
+
+import (
+	"math"
+
+	"gonum.org/v1/gonum/mat"
+)
+
+// lanczosSteps bounds the Krylov space of TopEigenvalue.
+const lanczosSteps = 300
+
+// TopEigenvalue returns the largest eigenvalue of the symmetric positive
+// semidefinite n×n operator mul (dst = A·x) by the Lanczos method with full
+// reorthogonalization, from the fixed start of LargestEigenvalue. It stops
+// when the residual ‖A·y − θ·y‖ = |β_j·s_j| of the top Ritz pair (θ, y) is
+// at most 1e-9·θ — there is then an eigenvalue of A within that distance
+// of θ — or after min(n, 300) steps. On a spectrum without a dominant
+// eigenvalue it takes far fewer products than the power method: the
+// Lanczos error falls with the square root of the relative gap where the
+// power method's falls with the gap itself. A zero operator gives 0.
+//
+// Cost per step one product and O(n·j) for the reorthogonalization; the
+// j×j tridiagonal's eigenvalues every fifth step, O(j³) at most.
+//
+// Reference: Golub, G. H. & Van Loan, C. F. (2013). Matrix Computations,
+// 4th ed., §10.1 (the Lanczos iteration) and §10.3 (the residual bound and
+// full reorthogonalization). Johns Hopkins.
+func TopEigenvalue(n int, mul func(dst, x []float64)) float64 {
+	if n == 0 {
+		return 0
+	}
+	steps := min(n, lanczosSteps)
+	q := make([][]float64, 0, steps)
+	x := make([]float64, n)
+	for i := range x {
+		x[i] = 1 + 0.5*math.Sin(float64(i+1))
+	}
+	normalize(x)
+	var alpha, beta []float64
+	w := make([]float64, n)
+	theta := 0.0
+	for j := 0; j < steps; j++ {
+		q = append(q, x)
+		mul(w, x)
+		a := dotSum(x, w)
+		alpha = append(alpha, a)
+		// Full reorthogonalization, twice (classical Gram–Schmidt run two
+		// times keeps the basis orthogonal to rounding).
+		for range 2 {
+			for _, qi := range q {
+				axpy(-dotSum(qi, w), qi, w)
+			}
+		}
+		b := math.Sqrt(dotSum(w, w))
+		last := j == steps-1 || b <= 1e-300
+		if j%5 == 4 || last {
+			var s float64
+			theta, s = topRitz(alpha, beta)
+			if last || math.Abs(b*s) <= 1e-9*math.Abs(theta) {
+				return theta
+			}
+		}
+		beta = append(beta, b)
+		x = make([]float64, n)
+		for i, v := range w {
+			x[i] = v / b
+		}
+	}
+	return theta
+}
+
+// topRitz returns the largest eigenvalue of the symmetric tridiagonal
+// matrix with diagonal alpha and off-diagonal beta, and the last component
+// of its unit eigenvector.
+func topRitz(alpha, beta []float64) (theta, last float64) {
+	m := len(alpha)
+	t := mat.NewSymDense(m, nil)
+	for i, a := range alpha {
+		t.SetSym(i, i, a)
+		if i+1 < m {
+			t.SetSym(i, i+1, beta[i])
+		}
+	}
+	var e EigenSym
+	if !e.Factorize(t, true) {
+		return math.NaN(), 0
+	}
+	vals := e.Values(nil)
+	var v mat.Dense
+	e.VectorsTo(&v)
+	top := len(vals) - 1 // ascending
+	return vals[top], v.At(m-1, top)
+}
