@@ -35,6 +35,16 @@ func withBase(base int, f func()) {
 	f()
 }
 
+// cholRoutes returns the ways to run the factorization and what uses it:
+// the blas64 route, a recursion base of 8, and every kernel, by name.
+func cholRoutes() map[string]func(func()) {
+	routes := map[string]func(func()){"blas64": withBLAS, "base 8": func(f func()) { withBase(8, f) }}
+	for _, k := range kernels() {
+		routes["kernel "+k.name] = func(f func()) { withKernel(k, f) }
+	}
+	return routes
+}
+
 // maxAbsDiff returns max |a_ij − b_ij|.
 func maxAbsDiff(a, b mat.Matrix) float64 {
 	r, c := a.Dims()
@@ -58,10 +68,7 @@ func TestCholeskyAgainstGonum(t *testing.T) {
 	if testing.Short() {
 		sizes = []int{1, 5, 49, 130}
 	}
-	routes := map[string]func(func()){"blas64": withBLAS, "base 8": func(f func()) { withBase(8, f) }}
-	for _, k := range kernels() {
-		routes["kernel "+k.name] = func(f func()) { withKernel(k, f) }
-	}
+	routes := cholRoutes()
 	for _, n := range sizes {
 		a := randSPD(rng, n)
 		var ref mat.Cholesky

@@ -31,11 +31,7 @@ func TopEigenvalue(n int, mul func(dst, x []float64)) float64 {
 	}
 	steps := min(n, lanczosSteps)
 	q := make([][]float64, 0, steps)
-	x := make([]float64, n)
-	for i := range x {
-		x[i] = 1 + 0.5*math.Sin(float64(i+1))
-	}
-	normalize(x)
+	x := startVector(n)
 	var alpha, beta []float64
 	w := make([]float64, n)
 	theta := 0.0

@@ -10,14 +10,8 @@ import (
 // semidefinite n×n operator mul (dst = A·x) by the power method from a fixed start, stopping
 // when the Rayleigh quotient changes by less than 1e-9 relative.
 func LargestEigenvalue(n int, mul func(dst, x []float64)) float64 {
-	x := make([]float64, n)
+	x := startVector(n)
 	y := make([]float64, n)
-	for i := range x {
-		// A fixed start with weight on every direction, so the result is
-		// deterministic.
-		x[i] = 1 + 0.5*math.Sin(float64(i+1))
-	}
-	normalize(x)
 	var lambda float64
 	for it := 0; it < 500; it++ {
 		mul(y, x)
@@ -32,6 +26,17 @@ func LargestEigenvalue(n int, mul func(dst, x []float64)) float64 {
 		lambda = next
 	}
 	return lambda
+}
+
+// startVector returns the unit start of the iterations: fixed, so that the
+// result is deterministic, with weight on every direction.
+func startVector(n int) []float64 {
+	x := make([]float64, n)
+	for i := range x {
+		x[i] = 1 + 0.5*math.Sin(float64(i+1))
+	}
+	normalize(x)
+	return x
 }
 
 func normalize(x []float64) float64 {
