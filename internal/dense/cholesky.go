@@ -282,13 +282,22 @@ func dotSum(x, y []float64) float64 {
 	return (s0 + s1) + (s2 + s3)
 }
 
-// axpy sets y ← y + s·x.
-func axpy(s float64, x, y []float64) {
+// axpyGo sets y ← y + s·x, the product rounded before the sum (the
+// conversion keeps the compiler from fusing them, as the AVX2 kernel does
+// not).
+func axpyGo(s float64, x, y []float64) {
 	y = y[:len(x)]
 	for k, v := range x {
-		y[k] += s * v
+		y[k] += float64(s * v)
 	}
 }
+
+// Axpy sets y ← y + s·x (y at least as long as x), each product rounded
+// before it is added (no fused multiply-add), so the digits are those of
+// the loop y[k] += float64(s*x[k]) whichever kernel runs (AVX2 where the
+// machine has it). It is the package's axpy, exported for the
+// evaluation's sparse products.
+func Axpy(s float64, x, y []float64) { axpy(s, x, y) }
 
 // Size returns N, the order of the factored matrix.
 func (c *Cholesky) Size() int { return c.n }

@@ -16,6 +16,20 @@ func mulT4AVX2(rows int, b *float64, ldb int, x, y *float64)
 //go:noescape
 func mulRowsAVX2(rows, k4 int, b *float64, ldb int, z, d, x, dst *float64)
 
+//go:noescape
+func axpyAVX2(n int, s float64, x, y *float64)
+
+// axpy sets y ← y + s·x, rounded as axpyGo rounds it.
+func axpy(s float64, x, y []float64) {
+	n := len(x)
+	if !vecAVX2 || n < 8 {
+		axpyGo(s, x, y)
+		return
+	}
+	_ = y[n-1]
+	axpyAVX2(n, s, &x[0], &y[0])
+}
+
 // vecAVX2 reports whether the AVX2 matrix–vector kernels run here.
 var vecAVX2 = detect().avx2
 

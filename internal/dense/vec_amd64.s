@@ -298,3 +298,41 @@ sums:
 	VMOVUPD    Y8, (R13)
 	VZEROUPPER
 	RET
+
+// func axpyAVX2(n int, s float64, x, y *float64)
+// Sets y_j ← y_j + s·x_j: a multiply, then an add (no fused multiply-add,
+// so every element is rounded as the plain Go loop rounds it), eight
+// elements a step, then one at a time.
+TEXT ·axpyAVX2(SB), NOSPLIT, $0-32
+	MOVQ n+0(FP), CX
+	VBROADCASTSD s+8(FP), Y15
+	MOVQ x+16(FP), SI
+	MOVQ y+24(FP), DI
+	XORQ AX, AX
+	MOVQ CX, BX
+	ANDQ $-8, BX
+
+axpy8:
+	CMPQ AX, BX
+	JGE  axpy1
+	VMULPD (SI)(AX*8), Y15, Y0
+	VMULPD 32(SI)(AX*8), Y15, Y1
+	VADDPD (DI)(AX*8), Y0, Y0
+	VADDPD 32(DI)(AX*8), Y1, Y1
+	VMOVUPD Y0, (DI)(AX*8)
+	VMOVUPD Y1, 32(DI)(AX*8)
+	ADDQ $8, AX
+	JMP  axpy8
+
+axpy1:
+	CMPQ AX, CX
+	JGE  axpydone
+	VMULSD (SI)(AX*8), X15, X0
+	VADDSD (DI)(AX*8), X0, X0
+	VMOVSD X0, (DI)(AX*8)
+	INCQ AX
+	JMP  axpy1
+
+axpydone:
+	VZEROUPPER
+	RET

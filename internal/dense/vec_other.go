@@ -4,6 +4,8 @@ package dense
 
 const vecAVX2 = false
 
+func axpy(s float64, x, y []float64) { axpyGo(s, x, y) }
+
 func dotAxpyVec(a, x, z []float64, s float64) float64 { return dotAxpyGo(a, x, z, s) }
 
 func mulTAdd(rows, k int, b []float64, ldb int, x, y []float64) {

@@ -128,3 +128,30 @@ func TestMulVecTDiag(t *testing.T) {
 	require.PanicsWithValue(t, mat.ErrShape, func() { MulVecDiag(nil, b, make([]float64, 3), nil, nil) })
 	require.PanicsWithValue(t, mat.ErrShape, func() { MulVecDiag(nil, b, make([]float64, 2), make([]float64, 3), nil) })
 }
+
+// TestAxpy checks that Axpy gives the digits of the loop
+// y[k] += float64(s*x[k]) (the product rounded first), bit for bit, with and without the AVX2 kernel, at
+// lengths on and off its eight-element steps, and that gonum v0.17.0's
+// blas64.Axpy (its SSE2 kernel, multiplies then adds) agrees bit for bit
+// too; and that it leaves y past len(x) alone.
+func TestAxpy(t *testing.T) {
+	rng := rand.New(rand.NewPCG(5, 6))
+	for _, n := range []int{0, 1, 7, 8, 9, 16, 23, 256, 1001} {
+		x, y0 := randVec(rng, n), randVec(rng, n+3)
+		s := rng.NormFloat64()
+		want := append([]float64(nil), y0...)
+		for k := range x {
+			want[k] += float64(s * x[k])
+		}
+		ref := append([]float64(nil), y0...)
+		blas64.Axpy(s, blas64.Vector{N: n, Inc: 1, Data: x}, blas64.Vector{N: n, Inc: 1, Data: ref[:n]})
+		require.Equal(t, want, ref, "gonum n=%d", n)
+		for _, on := range []bool{true, false} {
+			withVecKernels(on, func() {
+				got := append([]float64(nil), y0...)
+				Axpy(s, x, got)
+				require.Equal(t, want, got, "n=%d avx2=%v", n, on)
+			})
+		}
+	}
+}
