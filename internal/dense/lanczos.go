@@ -11,7 +11,7 @@ const lanczosSteps = 300
 
 // TopEigenvalue returns the largest eigenvalue of the symmetric positive
 // semidefinite n×n operator mul (dst = A·x) by the Lanczos method with full
-// reorthogonalization, from the fixed start of LargestEigenvalue. It stops
+// reorthogonalization, from a fixed start (startVector). It stops
 // when the residual ‖A·y − θ·y‖ = |β_j·s_j| of the top Ritz pair (θ, y) is
 // at most 1e-9·θ — there is then an eigenvalue of A within that distance
 // of θ — or after min(n, 300) steps. On a spectrum without a dominant
@@ -86,4 +86,20 @@ func topRitz(alpha, beta []float64) (theta, last float64) {
 	e.VectorsTo(&v)
 	top := len(vals) - 1 // ascending
 	return vals[top], v.At(m-1, top)
+}
+
+// startVector returns the unit start of the iterations: fixed, so that the
+// result is deterministic, with weight on every direction.
+func startVector(n int) []float64 {
+	x := make([]float64, n)
+	var s float64
+	for i := range x {
+		x[i] = 1 + 0.5*math.Sin(float64(i+1))
+		s += x[i] * x[i]
+	}
+	s = math.Sqrt(s)
+	for i := range x {
+		x[i] /= s
+	}
+	return x
 }
