@@ -165,8 +165,8 @@ const condTolerance = 1e16
 
 // truthFactor is what the losses against the truth of a test period need,
 // computed once per date from its factor form Σ = WWᵀ + D (W = B·L with
-// F = LLᵀ): Σ itself, dense, for the Frobenius loss and the factor
-// forecasts' traces; W and d for the dense forecasts' traces; and tr(Σ⁻¹)
+// F = LLᵀ): Σ itself, dense, for the Frobenius loss; W and d for the
+// minimum-variance loss's traces; and tr(Σ⁻¹)
 // by the Woodbury identity (factorInverse). invTrace is NaN when the
 // Woodbury inner matrix is not positive definite.
 type truthFactor struct {
@@ -206,7 +206,7 @@ func symFrob2(a *mat.Dense) float64 {
 //	tr(Σ̂⁻¹) = tr(P),   tr(Σ̂⁻¹ΣΣ̂⁻¹) = ‖P·W‖²_F + Σᵢ dᵢ·‖P_i‖²,
 //
 // P_i the i-th row of P, in O(N²·K) more. A factor forecast stays in factor
-// form (factorMVTraces), O(N²·K).
+// form (factorMVTraces), O(N·K²).
 func mvLossOf(op *covOp, tf *truthFactor) float64 {
 	if math.IsNaN(tf.invTrace) {
 		return math.NaN()
@@ -215,7 +215,7 @@ func mvLossOf(op *covOp, tf *truthFactor) float64 {
 	var tr, num float64
 	switch {
 	case op.fm != nil:
-		tr, num = factorMVTraces(op.fm, tf.sigma)
+		tr, num = factorMVTraces(op.fm, tf)
 	case op.chol != nil && op.cond <= condTolerance:
 		p := op.chol.InverseTo(nil)
 		rows := make([]float64, n) // ‖P_i‖², from the upper triangle
@@ -272,10 +272,12 @@ func symInner(a, b *mat.SymDense) float64 {
 //
 //	tr(Σ̂⁻¹ΣΣ̂⁻¹) = Σᵢ Σᵢᵢ/dᵢ² − 2·tr(YᵀD⁻¹Q) + tr(YᵀQ·YᵀY).
 //
-// Cost O(N²·K) for Q on all cores, O(N·K²) for the rest; no N×N matrix.
+// Q comes from the truth's own factor form Σ = W_t·W_tᵀ + D_t as
+// W_t·(W_tᵀY) + D_t·Y. Cost O(N·K²); no N×N matrix.
 // Reference: Woodbury, M.A. (1950), "Inverting modified matrices",
 // Memorandum Report 42, Statistical Research Group, Princeton University.
-func factorMVTraces(fm *factor.Model, truth *mat.SymDense) (tr, num float64) {
+func factorMVTraces(fm *factor.Model, tf *truthFactor) (tr, num float64) {
+	truth := tf.sigma
 	n, k := fm.SymmetricDim(), fm.NumFactors()
 	y, s, tr := factorInverse(fm)
 	if math.IsNaN(tr) {
@@ -288,7 +290,17 @@ func factorMVTraces(fm *factor.Model, truth *mat.SymDense) (tr, num float64) {
 	if k == 0 {
 		return tr, num
 	}
-	q := dense.Mul(nil, evalFull(truth), y) // ΣY, N×K
+	q := mat.NewDense(n, k, nil) // ΣY = W_t(W_tᵀY) + D_tY, N×K
+	if _, kt := tf.w.Dims(); kt > 0 {
+		var wy mat.Dense
+		wy.Mul(tf.w.T(), y)
+		q.Mul(tf.w, &wy)
+	}
+	for i, d := range tf.d {
+		for j := 0; j < k; j++ {
+			q.Set(i, j, q.At(i, j)+d*y.At(i, j))
+		}
+	}
 	var yy, yq, ydq mat.Dense
 	yy.Mul(y.T(), y)
 	yq.Mul(y.T(), q)
