@@ -78,16 +78,18 @@ func BenchmarkDate(b *testing.B) {
 			b.Run(fmt.Sprintf("N=%d/%s/score", n, method), func(b *testing.B) {
 				m = fitted(b, d, asof, &bo, m)
 				in := ev.inputs(0, r, m.Assets)
+				sc := new(scratch)
 				for b.Loop() {
-					ev.score(&in, m)
+					ev.score(&in, m, sc)
 				}
 			})
 			b.Run(fmt.Sprintf("N=%d/%s/score+truth-loss", n, method), func(b *testing.B) {
 				m = fitted(b, d, asof, &bo, m)
 				in := ev.inputs(0, r, m.Assets)
 				ev.truth(&in)
+				sc := new(scratch)
 				for b.Loop() {
-					ev.score(&in, m)
+					ev.score(&in, m, sc)
 				}
 			})
 		}

@@ -571,8 +571,11 @@ func (ev *evaluator) date(q, r int) (*dateResult, error) {
 		secs = append(secs, 0)
 		truthSecs += time.Since(t2).Seconds()
 	}
+	// One set of N×N buffers for the date's forecasts, scored in turn.
+	sc := scratchPool.Get().(*scratch)
+	defer scratchPool.Put(sc)
 	for e, m := range models {
-		ed, tsecs := ev.score(&in, m)
+		ed, tsecs := ev.score(&in, m, sc)
 		ed.forecast.FitSeconds = secs[e]
 		truthSecs += tsecs
 		res.est = append(res.est, ed)
@@ -580,7 +583,7 @@ func (ev *evaluator) date(q, r int) (*dateResult, error) {
 	}
 	if o.Truth != nil {
 		t2 := time.Now()
-		if err := ev.sampleLosses(&in, asof, res); err != nil {
+		if err := ev.sampleLosses(&in, asof, res, sc); err != nil {
 			return nil, err
 		}
 		truthSecs += time.Since(t2).Seconds()
@@ -742,11 +745,11 @@ func (ev *evaluator) truth(in *dateInputs) (*factor.Model, error) {
 
 // score builds the test portfolios from one forecast and measures them on
 // the test period; with a truth, the losses against it too, whose seconds
-// it returns.
-func (ev *evaluator) score(in *dateInputs, m *riskmodel.Model) (estimatorDate, float64) {
+// it returns. A dense forecast is scored in the buffers of sc.
+func (ev *evaluator) score(in *dateInputs, m *riskmodel.Model, sc *scratch) (estimatorDate, float64) {
 	ann := math.Sqrt(ev.p.PeriodsPerYear())
 	n, k := len(in.cols), in.k
-	op := newCovOp(m.Covariance())
+	op := newCovOpIn(m.Covariance(), sc)
 	ed := estimatorDate{}
 	tmp := make([]float64, n)
 	sb := make([]float64, n) // Σb
@@ -823,7 +826,7 @@ func (ev *evaluator) score(in *dateInputs, m *riskmodel.Model) (estimatorDate, f
 // sampleLosses sets the losses of the sample covariance, the reference of
 // the PRIAL, on res.est[0]: those of the sample estimator when it is one of
 // the estimators, else of a sample covariance fitted for it.
-func (ev *evaluator) sampleLosses(in *dateInputs, asof riskmodel.Date, res *dateResult) error {
+func (ev *evaluator) sampleLosses(in *dateInputs, asof riskmodel.Date, res *dateResult, sc *scratch) error {
 	for e, m := range ev.o.Methods {
 		if m.Build.Method == riskmodel.MethodSample {
 			res.est[0].sampleFrob = res.est[e].forecast.FrobeniusLoss
@@ -838,7 +841,7 @@ func (ev *evaluator) sampleLosses(in *dateInputs, asof riskmodel.Date, res *date
 	}
 	sm = restrictModel(sm, in.universe)
 	res.est[0].sampleFrob = frobeniusLoss(sm.Dense, in.target)
-	res.est[0].sampleMV = mvLossOf(newCovOp(sm.Dense), in.truthF)
+	res.est[0].sampleMV = mvLossOf(newCovOpIn(sm.Dense, sc), in.truthF)
 	return nil
 }
 

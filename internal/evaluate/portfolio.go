@@ -4,6 +4,7 @@ import (
 	"math"
 	"math/rand/v2"
 	"slices"
+	"sync"
 
 	"github.com/riskmodel/riskmodel"
 
@@ -45,7 +46,8 @@ type covOp struct {
 	sym  *mat.SymDense
 	full []float64
 	chol *dense.Cholesky
-	cond float64 // condition estimate of the unridged matrix; +Inf if not positive definite
+	cond float64  // condition estimate of the unridged matrix; +Inf if not positive definite
+	sc   *scratch // the N×N buffers of a dense forecast
 	// Of a factor forecast.
 	fm *factor.Model
 }
@@ -55,15 +57,43 @@ type covOp struct {
 // passing over the whole matrix (N²). Common practice, no source.
 const sparseShare = 0.25
 
-// newCovOp prepares the operations of c, a *factor.Model or a *mat.SymDense.
+// scratch holds the N×N buffers of a dense forecast's scoring — the full
+// copy of the matrix, its Cholesky factors, the ridged copy and the
+// inverse of the minimum-variance loss — so that the forecasts of a
+// rebalance date, scored one after another, reuse them instead of
+// allocating (and the runtime zeroing) four N×N matrices each. A covOp
+// built on a scratch owns it until its scoring ends; scratchPool passes
+// them from one date to the next.
+type scratch struct {
+	full, ridge, inv []float64
+	chol, ridgeChol  dense.Cholesky
+}
+
+var scratchPool = sync.Pool{New: func() any { return new(scratch) }}
+
+// grow returns b resliced to n, or a new slice when b is too short; the
+// contents are not cleared.
+func grow(b []float64, n int) []float64 {
+	if cap(b) < n {
+		return make([]float64, n)
+	}
+	return b[:n]
+}
+
+// newCovOp prepares the operations of c, a *factor.Model or a *mat.SymDense,
+// on buffers of its own (newCovOpIn).
+func newCovOp(c riskmodel.Covariance) *covOp { return newCovOpIn(c, new(scratch)) }
+
+// newCovOpIn prepares the operations of c, a *factor.Model or a
+// *mat.SymDense, a dense one in the buffers of sc.
 // A dense c that is not positive definite, or whose condition number passes
 // gmvMaxCond, is solved with the ridge gmvRidge and flagged.
 // Cost: O(N·K) for a factor model; for a dense one a Cholesky factorization
 // on all cores (dense.Cholesky, N³/3 flops), LAPACK's condition estimate
 // (dpocon, O(N²)) and a full copy of the matrix (N² memory).
-func newCovOp(c riskmodel.Covariance) *covOp {
+func newCovOpIn(c riskmodel.Covariance, sc *scratch) *covOp {
 	n := c.SymmetricDim()
-	op := &covOp{n: n}
+	op := &covOp{n: n, sc: sc}
 	switch s := c.(type) {
 	case *factor.Model:
 		op.fm = s
@@ -71,7 +101,9 @@ func newCovOp(c riskmodel.Covariance) *covOp {
 		op.solve = func(dst, x []float64) { s.SolveVecTo(dst, x) }
 	case *mat.SymDense:
 		op.sym = s
-		op.full = evalFull(s).RawMatrix().Data
+		sc.full = grow(sc.full, n*n)
+		op.full = sc.full
+		evalFullTo(op.full, s)
 		raw := s.RawSymmetric()
 		op.mul = func(dst, x []float64) {
 			nnz := 0
@@ -91,7 +123,7 @@ func newCovOp(c riskmodel.Covariance) *covOp {
 				}
 			}
 		}
-		ch := new(dense.Cholesky)
+		ch := &sc.chol
 		op.cond = math.Inf(1)
 		if ch.Factorize(s) {
 			op.chol = ch
@@ -102,14 +134,15 @@ func newCovOp(c riskmodel.Covariance) *covOp {
 			for i := 0; i < n; i++ {
 				tr += s.At(i, i)
 			}
-			r := mat.NewSymDense(n, nil)
+			sc.ridge = grow(sc.ridge, n*n)
+			r := mat.NewSymDense(n, sc.ridge)
 			r.CopySym(s)
 			delta := gmvRidge * math.Max(tr/float64(n), math.SmallestNonzeroFloat64)
 			for i := 0; i < n; i++ {
 				r.SetSym(i, i, r.At(i, i)+delta)
 			}
 			op.ridged = true
-			ch = new(dense.Cholesky)
+			ch = &sc.ridgeChol
 			if !ch.Factorize(r) {
 				op.solve = nil
 				break

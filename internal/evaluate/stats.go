@@ -127,20 +127,31 @@ func frobeniusLoss(est *mat.SymDense, truth *mat.SymDense) float64 {
 	return s / float64(n)
 }
 
-// evalFull copies a symmetric matrix into a general dense one, both
-// triangles filled.
-func evalFull(s *mat.SymDense) *mat.Dense {
+// fullBlock is the side of the square blocks evalFullTo mirrors the upper
+// triangle in, so that the strided writes of a block stay in cache.
+const fullBlock = 64
+
+// evalFullTo writes the n×n symmetric s into dst (row-major, stride n,
+// length n²), both triangles: each row's upper part by a copy, the lower
+// part mirrored block by block.
+func evalFullTo(dst []float64, s *mat.SymDense) {
 	n := s.SymmetricDim()
 	raw := s.RawSymmetric()
-	d := mat.NewDense(n, n, nil)
 	for i := 0; i < n; i++ {
-		row := raw.Data[i*raw.Stride : i*raw.Stride+n]
-		for j := i; j < n; j++ {
-			d.Set(i, j, row[j])
-			d.Set(j, i, row[j])
+		copy(dst[i*n+i:i*n+n], raw.Data[i*raw.Stride+i:i*raw.Stride+n])
+	}
+	for i0 := 0; i0 < n; i0 += fullBlock {
+		i1 := min(i0+fullBlock, n)
+		for j0 := i0; j0 < n; j0 += fullBlock {
+			j1 := min(j0+fullBlock, n)
+			for i := i0; i < i1; i++ {
+				row := dst[i*n : i*n+n]
+				for j := max(j0, i+1); j < j1; j++ {
+					dst[j*n+i] = row[j]
+				}
+			}
 		}
 	}
-	return d
 }
 
 // prial returns Ledoit & Wolf's percentage relative improvement in average
@@ -217,7 +228,8 @@ func mvLossOf(op *covOp, tf *truthFactor) float64 {
 	case op.fm != nil:
 		tr, num = factorMVTraces(op.fm, tf)
 	case op.chol != nil && op.cond <= condTolerance:
-		p := op.chol.InverseTo(nil)
+		op.sc.inv = grow(op.sc.inv, n*n)
+		p := op.chol.InverseTo(mat.NewSymDense(n, op.sc.inv))
 		rows := make([]float64, n) // ‖P_i‖², from the upper triangle
 		raw := p.RawSymmetric()
 		for i := 0; i < n; i++ {

@@ -121,8 +121,8 @@ func TestEvaluateLosses(t *testing.T) {
 // equation number is from memory, not verified: their Definition 1).
 func mvLoss(inv, truth *mat.SymDense, trueInvTrace float64) float64 {
 	n := truth.SymmetricDim()
-	// Full dense copies, which the kernel reads in place.
-	iv, tv := evalFull(inv), evalFull(truth)
+	// Full dense copies (gonum's), which the kernel reads in place.
+	iv, tv := mat.DenseCopyOf(inv), mat.DenseCopyOf(truth)
 	m := dense.Mul(nil, tv, iv) // ΣΣ̂⁻¹
 	var num, tr float64
 	for i := 0; i < n; i++ {
@@ -197,4 +197,24 @@ func TestMVLossOfMatchesReference(t *testing.T) {
 	unit, err := factor.NewModel(nil, nil, []float64{1, 1}, factor.Info{})
 	require.NoError(t, err)
 	require.True(t, math.IsNaN(mvLossOf(newCovOp(singular), newTruthFactor(unit))))
+}
+
+// evalFullTo fills both triangles as gonum v0.17.0's mat.DenseCopyOf of a
+// SymDense does, bit for bit, at sizes on and off its 64-wide blocks, and
+// from a SymDense whose stride is wider than n.
+func TestEvalFullTo(t *testing.T) {
+	rs := rand.New(rand.NewPCG(8, 9))
+	for _, n := range []int{1, 2, 63, 64, 65, 130} {
+		s := randomSPD(rs, n, 0.1)
+		want := mat.DenseCopyOf(s).RawMatrix().Data
+		got := make([]float64, n*n)
+		evalFullTo(got, s)
+		require.Equal(t, want, got, "n=%d", n)
+		wide := mat.NewSymDense(n+3, nil)
+		wide.CopySym(s)
+		view := wide.SliceSym(0, n).(*mat.SymDense)
+		clear(got)
+		evalFullTo(got, view)
+		require.Equal(t, want, got, "n=%d, stride %d", n, n+3)
+	}
 }
