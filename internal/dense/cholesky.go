@@ -27,6 +27,9 @@ type Cholesky struct {
 // so that the tests can drive the recursion deep on small matrices.
 var cholBase = 48
 
+// copyRows is the block of rows Factorize copies on one core.
+const copyRows = 64
+
 // Factorize computes the Cholesky factor of a and reports whether a is
 // positive definite:
 //
@@ -58,19 +61,32 @@ var cholBase = 48
 //	Development 41(6), 737–756.
 func (c *Cholesky) Factorize(a mat.Symmetric) (ok bool) {
 	n := a.SymmetricDim()
-	if cap(c.u) < n*n {
+	// The factorization writes only the upper triangle, so a new buffer's
+	// lower triangle stays as make left it, zero, and its pages are never
+	// touched: nearly half of an N×N buffer the process never faults in. A
+	// reused buffer may hold another size's factor there and is cleared.
+	reused := cap(c.u) >= n*n
+	if !reused {
 		c.u = make([]float64, n*n)
 	}
 	c.n, c.u = n, c.u[:n*n]
 	if s, isRaw := a.(mat.RawSymmetricer); isRaw && s.RawSymmetric().Uplo == blas.Upper {
 		raw := s.RawSymmetric()
-		for i := 0; i < n; i++ {
-			clear(c.u[i*n : i*n+i])
-			copy(c.u[i*n+i:i*n+n], raw.Data[i*raw.Stride+i:i*raw.Stride+n])
-		}
+		// Rows in blocks on all cores: at large N the copy is the first
+		// touch of the factor's pages, which costs more than the copy.
+		parallel((n+copyRows-1)/copyRows, procs(), func(b int) {
+			for i := b * copyRows; i < min(n, (b+1)*copyRows); i++ {
+				if reused {
+					clear(c.u[i*n : i*n+i])
+				}
+				copy(c.u[i*n+i:i*n+n], raw.Data[i*raw.Stride+i:i*raw.Stride+n])
+			}
+		})
 	} else {
 		for i := 0; i < n; i++ {
-			clear(c.u[i*n : i*n+i])
+			if reused {
+				clear(c.u[i*n : i*n+i])
+			}
 			for j := i; j < n; j++ {
 				c.u[i*n+j] = a.At(i, j)
 			}

@@ -216,6 +216,15 @@ func TestCholeskyProperties(t *testing.T) {
 	require.True(t, c.Factorize(randSPD(rng, n)))
 	require.True(t, c.Factorize(a))
 	require.Equal(t, first, c.u, "reused receiver")
+	for i := 0; i < n; i++ {
+		require.Equal(t, make([]float64, i), first[i*n:i*n+i], "a new buffer's lower triangle is zero")
+	}
+	var big Cholesky // a larger factor leaves its upper triangle where the smaller one's lower lies
+	require.True(t, big.Factorize(randSPD(rng, n+37)))
+	require.True(t, big.Factorize(a))
+	require.Equal(t, first, big.u, "receiver reused from a larger size")
+	require.True(t, big.Factorize(atOnly{a}))
+	require.Equal(t, first, big.u, "receiver reused, a matrix given through At")
 
 	saved := runtime.GOMAXPROCS(1)
 	var one Cholesky
