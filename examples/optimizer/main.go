@@ -22,13 +22,17 @@
 // {w : Σ_i w_i = 1, 0 ≤ w_i ≤ u_i} (u_i the maximum weight on the
 // shortlisted names, 0 elsewhere) by projected gradient,
 //
-//	w ← P(w − (1/L) · 2Σ(w − b)),   L = 2 λ_max(Σ),
+//	w ← P(w − (1/L) · 2Σ(w − b)),   L = 2 λ_max(QΣQ),   Q = I − 11ᵀ/N,
 //
 // which decreases f at every step (Beck & Teboulle 2009, with the fixed step
-// 1/L). Σx costs O(N·K) in factor form. P is the Euclidean projection onto
-// the capped simplex: w_i = min(u_i, max(0, v_i − τ)) with τ chosen so that
-// the weights sum to 1 (found by bisection, then solved exactly on the final
-// linear piece).
+// 1/L). Q projects onto the directions of the plane Σ_i w_i = 1 (those with
+// Σ_i d_i = 0), the only ones a step moves in, so L leaves out the market
+// direction, which lies close to the equal-weighted portfolio: a step
+// several times longer than 1/(2λ_max(Σ)). Σx costs
+// O(N·K) in factor form. P is the Euclidean projection onto the capped
+// simplex: w_i = min(u_i, max(0, v_i − τ)) with τ chosen so that the weights
+// sum to 1 (found by bisection, then solved exactly on the final linear
+// piece).
 //
 // Exported, to -export (CSV, per-period units):
 //

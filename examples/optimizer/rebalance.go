@@ -75,7 +75,8 @@ func project(dst, v, caps []float64) ([]float64, error) {
 type mulVec func(dst, x []float64) []float64
 
 // rebalance minimises (w − b)ᵀΣ(w − b) over the capped simplex from the
-// start w0 by projected gradient with step 1/L, L = 2·lambdaMax. It returns
+// start w0 by projected gradient with step 1/L, L = 2·lambdaMax (λ_max of
+// Σ on the plane Σ w_i = 1, from tangentEigenvalue). It returns
 // the weights, the per-period tracking error at each accepted step (the
 // first is the projected start's) and whether the weights settled (no
 // weight moved more than tol in the last step) within maxIter iterations.
@@ -130,34 +131,83 @@ func rebalance(mul mulVec, b, w0, caps []float64, lambdaMax float64, maxIter int
 	return w, path, false, nil
 }
 
-// largestEigenvalue estimates λ_max of Σ by the power method from a fixed
-// start and returns it raised by 1 %, so that 1/(2λ) stays a safe step.
-func largestEigenvalue(mul mulVec, n int) float64 {
+// tangentEigenvalue estimates the largest eigenvalue of Σ on the plane
+// Σ_i w_i = 1, λ_max(QΣQ) with Q = I − 11ᵀ/n, and returns it raised by 1 %,
+// so that 1/(2λ) stays a safe step. Every feasible point lies on that plane,
+// so the difference of two of them does too, and the gradient step needs the
+// curvature of f only in those directions (Beck & Teboulle 2009: L is a
+// Lipschitz constant of ∇f on the feasible set). In an equity market the
+// largest eigenvector of Σ lies close to the equal-weighted portfolio, which
+// Q removes, so λ_max(QΣQ) is several times smaller than λ_max(Σ) and the
+// step as many times longer. The power method starts from a fixed vector
+// that is not equal-weighted; rebalance halves the step should the estimate
+// still fall short. Where QΣQ is zero (one name, or names that are all
+// alike) it falls back to 1ᵀΣ1/n, and to 1 when Σ is zero too.
+func tangentEigenvalue(mul mulVec, n int) float64 {
 	x := make([]float64, n)
 	y := make([]float64, n)
+	// center removes the mean, applying Q, and returns the norm.
+	center := func(v []float64) float64 {
+		var mean float64
+		for _, a := range v {
+			mean += a
+		}
+		mean /= float64(n)
+		var norm float64
+		for i := range v {
+			v[i] -= mean
+			norm += v[i] * v[i]
+		}
+		return math.Sqrt(norm)
+	}
 	for i := range x {
-		x[i] = 1 / math.Sqrt(float64(n))
+		x[i] = math.Cos(float64(i+1) * 2.399963229728653) // the golden angle: no pattern along the names
 	}
 	var lambda float64
-	for it := 0; it < 300; it++ {
-		mul(y, x)
-		var dot, norm float64
-		for i := range y {
-			dot += x[i] * y[i]
-			norm += y[i] * y[i]
+	if norm := center(x); norm > 0 {
+		for i := range x {
+			x[i] /= norm
 		}
-		norm = math.Sqrt(norm)
-		if norm == 0 {
-			return 0
-		}
-		for i := range y {
-			x[i] = y[i] / norm
-		}
-		if it > 3 && math.Abs(dot-lambda) <= 1e-10*dot {
+		for it := 0; it < 300; it++ {
+			mul(y, x) // x is centered already: y = ΣQx
+			var dot float64
+			for i := range y {
+				dot += x[i] * y[i]
+			}
+			norm := center(y)
+			if norm == 0 {
+				break
+			}
+			for i := range y {
+				x[i] = y[i] / norm
+			}
+			done := it > 3 && math.Abs(dot-lambda) <= 1e-10*dot
 			lambda = dot
-			break
+			if done {
+				break
+			}
 		}
-		lambda = dot
+	}
+	if q := equalWeightVariance(mul, n); lambda <= 1e-12*q || lambda <= 0 {
+		lambda = q
+		if lambda <= 0 {
+			lambda = 1
+		}
 	}
 	return 1.01 * lambda
+}
+
+// equalWeightVariance is 1ᵀΣ1/n, the variance of n times the equal-weighted
+// portfolio: the scale of Σ along the direction Q removes.
+func equalWeightVariance(mul mulVec, n int) float64 {
+	x := make([]float64, n)
+	for i := range x {
+		x[i] = 1
+	}
+	y := mul(make([]float64, n), x)
+	var q float64
+	for i := range y {
+		q += y[i]
+	}
+	return q / float64(n)
 }

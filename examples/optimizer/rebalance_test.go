@@ -152,7 +152,7 @@ func TestRebalanceDiagonalKnownSolution(t *testing.T) {
 	want, _ := kkt((lo + hi) / 2)
 
 	start := []float64{0, 0, 0.5, 0.5, 0, 0}
-	w, path, settled, err := rebalance(diagonal(d), b, start, c, largestEigenvalue(diagonal(d), 6), 100000, 1e-13)
+	w, path, settled, err := rebalance(diagonal(d), b, start, c, tangentEigenvalue(diagonal(d), 6), 100000, 1e-13)
 	require.NoError(t, err)
 	require.True(t, settled)
 	require.InDeltaSlice(t, want, w, 1e-8)
@@ -167,20 +167,42 @@ func TestRebalanceReachesTheBenchmark(t *testing.T) {
 	// itself is feasible and has zero tracking error.
 	d := []float64{1e-4, 2e-4, 3e-4, 4e-4}
 	b := []float64{0.1, 0.2, 0.3, 0.4}
-	w, path, settled, err := rebalance(diagonal(d), b, []float64{1, 0, 0, 0}, caps(4, 1), largestEigenvalue(diagonal(d), 4), 100000, 1e-14)
+	w, path, settled, err := rebalance(diagonal(d), b, []float64{1, 0, 0, 0}, caps(4, 1), tangentEigenvalue(diagonal(d), 4), 100000, 1e-14)
 	require.NoError(t, err)
 	require.True(t, settled)
 	require.InDeltaSlice(t, b, w, 1e-9)
 	require.Less(t, path[len(path)-1], 1e-9)
 
 	// Ten iterations are not enough to settle: the result says so.
-	_, short, settled, err := rebalance(diagonal(d), b, []float64{1, 0, 0, 0}, caps(4, 1), largestEigenvalue(diagonal(d), 4), 10, 1e-14)
+	_, short, settled, err := rebalance(diagonal(d), b, []float64{1, 0, 0, 0}, caps(4, 1), tangentEigenvalue(diagonal(d), 4), 10, 1e-14)
 	require.NoError(t, err)
 	require.False(t, settled)
 	require.LessOrEqual(t, len(short), 11)
 }
 
-func TestLargestEigenvalue(t *testing.T) {
-	got := largestEigenvalue(diagonal([]float64{1, 5, 2}), 3)
-	require.InDelta(t, 5*1.01, got, 1e-6)
+func TestTangentEigenvalue(t *testing.T) {
+	// References: numpy 1.24.2, np.linalg.eigvalsh(P @ np.diag(d) @ P).max()
+	// with P = np.eye(n) - np.ones((n, n))/n.
+	got := tangentEigenvalue(diagonal([]float64{1, 5, 2}), 3)
+	require.InDelta(t, 3.8685170918213303*1.01, got, 1e-8)
+	got = tangentEigenvalue(diagonal([]float64{1e-4, 4e-4, 2e-4, 9e-4, 1e-4, 3e-4}), 6)
+	require.InDelta(t, 0.0007910617541295482*1.01, got, 1e-12)
+
+	// Names that are all alike, Σ = c·11ᵀ: Σ is zero on the plane, so the
+	// step falls back to the scale of the equal-weighted direction,
+	// 1ᵀΣ1/n = c·n.
+	const c, n = 4e-4, 5
+	alike := func(dst, x []float64) []float64 {
+		var s float64
+		for _, v := range x {
+			s += v
+		}
+		for i := range dst {
+			dst[i] = c * s
+		}
+		return dst
+	}
+	require.InDelta(t, 1.01*c*n, tangentEigenvalue(alike, n), 1e-15)
+	require.InDelta(t, 1.01*2e-4, tangentEigenvalue(diagonal([]float64{2e-4}), 1), 1e-15, "one name")
+	require.Equal(t, 1.01, tangentEigenvalue(diagonal(make([]float64, 3)), 3), "Σ = 0")
 }

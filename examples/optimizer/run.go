@@ -190,7 +190,7 @@ func optimize(cfg config, stdout io.Writer) error {
 		return err
 	}
 	mul := func(dst, x []float64) []float64 { return an.MulVecTo(dst, x) }
-	lambda := largestEigenvalue(mul, len(pr.assets))
+	lambda := tangentEigenvalue(mul, len(pr.assets))
 	w, path, settled, err := rebalance(mul, pr.bench, pr.start, pr.caps, lambda, cfg.iterations, cfg.tol)
 	if err != nil {
 		return badInput{err}
