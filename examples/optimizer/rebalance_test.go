@@ -7,6 +7,7 @@ import (
 	"testing"
 
 	"github.com/stretchr/testify/require"
+	"gonum.org/v1/gonum/mat"
 )
 
 // simplexSort is the sort-based projection onto the probability simplex of
@@ -205,4 +206,113 @@ func TestTangentEigenvalue(t *testing.T) {
 	require.InDelta(t, 1.01*c*n, tangentEigenvalue(alike, n), 1e-15)
 	require.InDelta(t, 1.01*2e-4, tangentEigenvalue(diagonal([]float64{2e-4}), 1), 1e-15, "one name")
 	require.Equal(t, 1.01, tangentEigenvalue(diagonal(make([]float64, 3)), 3), "Σ = 0")
+}
+
+// simulatedMarket is Σ = B·F·Bᵀ + D for n names and k factors: the first
+// factor a market every name loads on with loading about marketLoading, the
+// others industry-like with Gaussian loadings, daily-sized variances.
+func simulatedMarket(rng *rand.Rand, n, k int, marketLoading float64) *mat.SymDense {
+	b := mat.NewDense(n, k, nil)
+	for i := 0; i < n; i++ {
+		b.Set(i, 0, marketLoading*(1+0.3*rng.NormFloat64()))
+		for j := 1; j < k; j++ {
+			b.Set(i, j, rng.NormFloat64())
+		}
+	}
+	f := mat.NewDiagDense(k, nil)
+	f.SetDiag(0, 1e-4)
+	for j := 1; j < k; j++ {
+		f.SetDiag(j, 2e-5*(1+rng.Float64()))
+	}
+	var bf mat.Dense
+	bf.Mul(b, f)
+	var bfb mat.Dense
+	bfb.Mul(&bf, b.T())
+	s := mat.NewSymDense(n, nil)
+	for i := 0; i < n; i++ {
+		for j := i; j < n; j++ {
+			s.SetSym(i, j, bfb.At(i, j))
+		}
+		s.SetSym(i, i, s.At(i, i)+4e-4*(0.5+rng.Float64()))
+	}
+	return s
+}
+
+func TestTangentStepOnSimulatedMarkets(t *testing.T) {
+	// Markets of several shapes: one strong market factor, a market among
+	// many industries, and no market at all (no name loads on the first
+	// factor). The reference eigenvalues come from gonum's mat.EigenSym on
+	// the dense Σ and on QΣQ; the whole-space step 1/(2λmax(Σ)) is the
+	// rebalancer's step before this one and must reach the same optimum.
+	for _, c := range []struct {
+		name   string
+		n, k   int
+		market float64
+	}{
+		{"one strong market factor", 150, 1, 1},
+		{"market and twelve industries", 200, 13, 1},
+		{"no market", 120, 6, 0},
+	} {
+		t.Run(c.name, func(t *testing.T) {
+			rng := rand.New(rand.NewPCG(7, uint64(c.n)))
+			s := simulatedMarket(rng, c.n, c.k, c.market)
+			mul := func(dst, x []float64) []float64 {
+				mat.NewVecDense(len(dst), dst).MulVec(s, mat.NewVecDense(len(x), x))
+				return dst
+			}
+			top := func(a mat.Symmetric) float64 {
+				var e mat.EigenSym
+				require.True(t, e.Factorize(a, false))
+				v := e.Values(nil)
+				return v[len(v)-1]
+			}
+			q := mat.NewDense(c.n, c.n, nil)
+			for i := 0; i < c.n; i++ {
+				for j := 0; j < c.n; j++ {
+					q.Set(i, j, -1/float64(c.n))
+				}
+				q.Set(i, i, q.At(i, i)+1)
+			}
+			var qs, qsq mat.Dense
+			qs.Mul(q, s)
+			qsq.Mul(&qs, q)
+			qsqSym := mat.NewSymDense(c.n, nil)
+			for i := 0; i < c.n; i++ {
+				for j := i; j < c.n; j++ {
+					qsqSym.SetSym(i, j, (qsq.At(i, j)+qsq.At(j, i))/2)
+				}
+			}
+			whole, tangent := top(s), top(qsqSym)
+			got := tangentEigenvalue(mul, c.n)
+			require.InDelta(t, 1.01*tangent, got, 1e-6*tangent, "tangentEigenvalue against gonum's EigenSym of QΣQ")
+			require.LessOrEqual(t, tangent, whole*(1+1e-12))
+
+			b := make([]float64, c.n)
+			for i := range b {
+				b[i] = 1 / float64(c.n)
+			}
+			b[0], b[1] = b[0]+0.04, b[1]-0.5/float64(c.n) // a tilted benchmark the caps cut
+			var sum float64
+			for _, x := range b {
+				sum += x
+			}
+			for i := range b {
+				b[i] /= sum
+			}
+			start := make([]float64, c.n)
+			start[3] = 1
+			u := caps(c.n, 0.02)
+			wNew, pathNew, settledNew, err := rebalance(mul, b, start, u, got, 200000, 1e-12)
+			require.NoError(t, err)
+			wOld, pathOld, settledOld, err := rebalance(mul, b, start, u, 1.01*whole, 200000, 1e-12)
+			require.NoError(t, err)
+			require.True(t, settledNew)
+			require.True(t, settledOld)
+			teNew, teOld := pathNew[len(pathNew)-1], pathOld[len(pathOld)-1]
+			require.InDelta(t, teOld, teNew, 1e-9*teOld, "the same optimum")
+			require.InDeltaSlice(t, wOld, wNew, 1e-6)
+			require.LessOrEqual(t, len(pathNew), len(pathOld))
+			t.Logf("λmax(Σ) %.4g, λmax(QΣQ) %.4g: %d steps against %d, tracking error %.6g", whole, tangent, len(pathNew)-1, len(pathOld)-1, teNew)
+		})
+	}
 }
