@@ -28,11 +28,10 @@
 // 1/L). Q projects onto the directions of the plane Σ_i w_i = 1 (those with
 // Σ_i d_i = 0), the only ones a step moves in, so L leaves out the market
 // direction, which lies close to the equal-weighted portfolio: a step
-// several times longer than 1/(2λ_max(Σ)). Σx costs
-// O(N·K) in factor form. P is the Euclidean projection onto the capped
-// simplex: w_i = min(u_i, max(0, v_i − τ)) with τ chosen so that the weights
-// sum to 1 (found by bisection, then solved exactly on the final linear
-// piece).
+// several times longer than 1/(2λ_max(Σ)). Σx costs O(N·K) in factor form.
+// P is the Euclidean projection onto the capped simplex:
+// w_i = min(u_i, max(0, v_i − τ)) with τ chosen so that the weights sum to 1
+// (found by bisection, then solved exactly on the final linear piece).
 //
 // Exported, to -export (CSV, per-period units):
 //

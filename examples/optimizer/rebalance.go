@@ -142,8 +142,12 @@ func rebalance(mul mulVec, b, w0, caps []float64, lambdaMax float64, maxIter int
 // step as many times longer. The power method starts from a fixed vector
 // that is not equal-weighted; rebalance halves the step should the estimate
 // still fall short. Where QΣQ is zero (one name, or names that are all
-// alike) it falls back to 1ᵀΣ1/n, and to 1 when Σ is zero too.
+// alike) it falls back to 1ᵀΣ1/n, and to 1 when Σ is zero too or there are
+// no names.
 func tangentEigenvalue(mul mulVec, n int) float64 {
+	if n == 0 {
+		return 1.01
+	}
 	x := make([]float64, n)
 	y := make([]float64, n)
 	// center removes the mean, applying Q, and returns the norm.
@@ -197,7 +201,7 @@ func tangentEigenvalue(mul mulVec, n int) float64 {
 	return 1.01 * lambda
 }
 
-// equalWeightVariance is 1ᵀΣ1/n, the variance of n times the equal-weighted
+// equalWeightVariance is 1ᵀΣ1/n, n times the variance of the equal-weighted
 // portfolio: the scale of Σ along the direction Q removes.
 func equalWeightVariance(mul mulVec, n int) float64 {
 	x := make([]float64, n)

@@ -206,6 +206,7 @@ func TestTangentEigenvalue(t *testing.T) {
 	require.InDelta(t, 1.01*c*n, tangentEigenvalue(alike, n), 1e-15)
 	require.InDelta(t, 1.01*2e-4, tangentEigenvalue(diagonal([]float64{2e-4}), 1), 1e-15, "one name")
 	require.Equal(t, 1.01, tangentEigenvalue(diagonal(make([]float64, 3)), 3), "Σ = 0")
+	require.Equal(t, 1.01, tangentEigenvalue(diagonal(nil), 0), "no names")
 }
 
 // simulatedMarket is Σ = B·F·Bᵀ + D for n names and k factors: the first
