@@ -3,6 +3,8 @@ package main
 import (
 	"errors"
 	"math"
+
+	"github.com/riskmodel/riskmodel/internal/dense"
 )
 
 // errInfeasible reports caps that cannot hold a fully invested portfolio.
@@ -131,87 +133,25 @@ func rebalance(mul mulVec, b, w0, caps []float64, lambdaMax float64, maxIter int
 	return w, path, false, nil
 }
 
-// tangentEigenvalue estimates the largest eigenvalue of Σ on the plane
-// Σ_i w_i = 1, λ_max(QΣQ) with Q = I − 11ᵀ/n, and returns it raised by 1 %,
-// so that 1/(2λ) stays a safe step. Every feasible point lies on that plane,
-// so the difference of two of them does too, and the gradient step needs the
-// curvature of f only in those directions (Beck & Teboulle 2009: L is a
-// Lipschitz constant of ∇f on the feasible set). In an equity market the
-// largest eigenvector of Σ lies close to the equal-weighted portfolio, which
-// Q removes, so λ_max(QΣQ) is several times smaller than λ_max(Σ) and the
-// step as many times longer. The power method starts from a fixed vector
-// that is not equal-weighted; rebalance halves the step should the estimate
-// still fall short. Where QΣQ is zero (one name, or names that are all
-// alike) it falls back to 1ᵀΣ1/n, and to 1 when Σ is zero too or there are
-// no names.
+// tangentEigenvalue returns the largest eigenvalue of Σ on the plane
+// Σ_i w_i = 1, λ_max(QΣQ) with Q = I − 11ᵀ/n (dense.PlaneTopEigenvalue,
+// Lanczos), raised by 1 % so that 1/(2λ) stays a safe step. Every feasible
+// point lies on that plane, so the difference of two of them does too, and
+// the gradient step needs the curvature of f only in those directions (Beck
+// & Teboulle 2009: L is a Lipschitz constant of ∇f on the feasible set). In
+// an equity market the largest eigenvector of Σ lies close to the
+// equal-weighted portfolio, which Q removes, so λ_max(QΣQ) is several times
+// smaller than λ_max(Σ) and the step as many times longer; rebalance halves
+// the step should the estimate still fall short. Where QΣQ is zero (one
+// name, or names that are all alike) it falls back to 1ᵀΣ1/n, and to 1 when
+// Σ is zero too or there are no names.
 func tangentEigenvalue(mul mulVec, n int) float64 {
-	if n == 0 {
-		return 1.01
+	top, equal := dense.PlaneTopEigenvalue(n, func(dst, x []float64) { mul(dst, x) })
+	if top <= 1e-12*equal || top <= 0 {
+		top = equal
 	}
-	x := make([]float64, n)
-	y := make([]float64, n)
-	// center removes the mean, applying Q, and returns the norm.
-	center := func(v []float64) float64 {
-		var mean float64
-		for _, a := range v {
-			mean += a
-		}
-		mean /= float64(n)
-		var norm float64
-		for i := range v {
-			v[i] -= mean
-			norm += v[i] * v[i]
-		}
-		return math.Sqrt(norm)
+	if top <= 0 {
+		top = 1
 	}
-	for i := range x {
-		x[i] = math.Cos(float64(i+1) * 2.399963229728653) // the golden angle: no pattern along the names
-	}
-	var lambda float64
-	if norm := center(x); norm > 0 {
-		for i := range x {
-			x[i] /= norm
-		}
-		for it := 0; it < 300; it++ {
-			mul(y, x) // x is centered already: y = ΣQx
-			var dot float64
-			for i := range y {
-				dot += x[i] * y[i]
-			}
-			norm := center(y)
-			if norm == 0 {
-				break
-			}
-			for i := range y {
-				x[i] = y[i] / norm
-			}
-			done := it > 3 && math.Abs(dot-lambda) <= 1e-10*dot
-			lambda = dot
-			if done {
-				break
-			}
-		}
-	}
-	if q := equalWeightVariance(mul, n); lambda <= 1e-12*q || lambda <= 0 {
-		lambda = q
-		if lambda <= 0 {
-			lambda = 1
-		}
-	}
-	return 1.01 * lambda
-}
-
-// equalWeightVariance is 1ᵀΣ1/n, n times the variance of the equal-weighted
-// portfolio: the scale of Σ along the direction Q removes.
-func equalWeightVariance(mul mulVec, n int) float64 {
-	x := make([]float64, n)
-	for i := range x {
-		x[i] = 1
-	}
-	y := mul(make([]float64, n), x)
-	var q float64
-	for i := range y {
-		q += y[i]
-	}
-	return q / float64(n)
+	return 1.01 * top
 }

@@ -65,6 +65,48 @@ func TopEigenvalue(n int, mul func(dst, x []float64)) float64 {
 	return theta
 }
 
+// PlaneTopEigenvalue returns the largest eigenvalue of QAQ, Q = I − 11ᵀ/n
+// the projection onto the vectors of zero sum, by TopEigenvalue, and
+// 1ᵀA1/n, the scale of A along the direction Q removes. A gradient method
+// that stays on the plane Σᵢ wᵢ = 1 (a fully invested portfolio) moves only
+// along vectors of zero sum, so top is the Lipschitz constant its step needs
+// for the quadratic form of A (Beck & Teboulle 2009: L on the feasible set);
+// for a covariance whose largest eigenvector lies near the equal-weighted
+// portfolio, as in an equity market, it is a few times below λmax(A).
+// The caller decides what a zero top means (A zero off the equal-weighted
+// direction): equal tells it how large A is there. Cost: TopEigenvalue's
+// products, one more, and O(n) per product for the centering.
+func PlaneTopEigenvalue(n int, mul func(dst, x []float64)) (top, equal float64) {
+	if n == 0 {
+		return 0, 0
+	}
+	x, y := make([]float64, n), make([]float64, n)
+	center := func(v []float64) {
+		var m float64
+		for _, a := range v {
+			m += a
+		}
+		m /= float64(n)
+		for i := range v {
+			v[i] -= m
+		}
+	}
+	top = TopEigenvalue(n, func(dst, v []float64) {
+		copy(x, v)
+		center(x)
+		mul(dst, x)
+		center(dst)
+	})
+	for i := range x {
+		x[i] = 1
+	}
+	mul(y, x)
+	for _, a := range y {
+		equal += a
+	}
+	return top, equal / float64(n)
+}
+
 // topRitz returns the largest eigenvalue of the symmetric tridiagonal
 // matrix with diagonal alpha and off-diagonal beta, and the last component
 // of its unit eigenvector.

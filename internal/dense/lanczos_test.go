@@ -60,3 +60,68 @@ func TestTopEigenvalueAgainstGonum(t *testing.T) {
 	// growing after one step.
 	require.InDelta(t, 1, TopEigenvalue(3, func(dst, x []float64) { copy(dst, x) }), 1e-15)
 }
+
+// TestPlaneTopEigenvalue checks the largest eigenvalue on the vectors of
+// zero sum against numpy 1.24.2,
+// np.linalg.eigvalsh(P @ np.diag(d) @ P).max() with
+// P = np.eye(n) - np.ones((n, n))/n, and against gonum v0.17.0's
+// mat.EigenSym of QAQ on a matrix with a market-like direction, where it is
+// well below λmax(A); equal is 1ᵀA1/n.
+func TestPlaneTopEigenvalue(t *testing.T) {
+	diag := func(d []float64) func(dst, x []float64) {
+		return func(dst, x []float64) {
+			for i := range x {
+				dst[i] = d[i] * x[i]
+			}
+		}
+	}
+	top, equal := PlaneTopEigenvalue(3, diag([]float64{1, 5, 2}))
+	require.InDelta(t, 3.8685170918213303, top, 1e-9*3.87)
+	require.InDelta(t, 8.0/3, equal, 1e-15)
+	top, _ = PlaneTopEigenvalue(6, diag([]float64{1e-4, 4e-4, 2e-4, 9e-4, 1e-4, 3e-4}))
+	require.InDelta(t, 0.0007910617541295482, top, 1e-9*7.9e-4)
+
+	rng := rand.New(rand.NewPCG(11, 12))
+	const n = 120
+	x := randMatrix(rng, 200, n)
+	var a mat.SymDense
+	a.SymOuterK(1.0/200, x.T())
+	ones := mat.NewVecDense(n, nil)
+	for i := 0; i < n; i++ {
+		ones.SetVec(i, 1)
+	}
+	a.SymRankOne(&a, 0.2, ones)
+	q := mat.NewDense(n, n, nil)
+	for i := 0; i < n; i++ {
+		for j := 0; j < n; j++ {
+			q.Set(i, j, -1.0/n)
+		}
+		q.Set(i, i, q.At(i, i)+1)
+	}
+	var qa, qaq mat.Dense
+	qa.Mul(q, &a)
+	qaq.Mul(&qa, q)
+	sym := mat.NewSymDense(n, nil)
+	for i := 0; i < n; i++ {
+		for j := i; j < n; j++ {
+			sym.SetSym(i, j, (qaq.At(i, j)+qaq.At(j, i))/2)
+		}
+	}
+	largest := func(s mat.Symmetric) float64 {
+		var e mat.EigenSym
+		require.True(t, e.Factorize(s, false))
+		v := e.Values(nil)
+		return v[len(v)-1]
+	}
+	want, whole := largest(sym), largest(&a)
+	top, equal = PlaneTopEigenvalue(n, func(dst, x []float64) {
+		mat.NewVecDense(n, dst).MulVec(&a, mat.NewVecDense(n, x))
+	})
+	require.InDelta(t, want, top, 1e-9*want)
+	require.Less(t, top, whole/3, "the market direction is left out")
+	require.InDelta(t, mat.Inner(ones, &a, ones)/n, equal, 1e-12*equal)
+
+	top, equal = PlaneTopEigenvalue(0, nil)
+	require.Zero(t, top)
+	require.Zero(t, equal)
+}
